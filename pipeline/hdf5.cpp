@@ -1,0 +1,408 @@
+#include "pipeline/hdf5.hpp"
+
+#include <algorithm>
+#include <stdexcept>
+
+#include "pipeline/errors.hpp"
+
+namespace stallscope::h5 {
+
+namespace fs = std::filesystem;
+
+Id& Id::operator=(Id&& o) noexcept {
+  if (this != &o) {
+    close();
+    id_ = o.id_;
+    o.id_ = H5I_INVALID_HID;
+  }
+  return *this;
+}
+
+void Id::close() {
+  if (id_ < 0) return;
+  switch (H5Iget_type(id_)) {
+    case H5I_FILE: H5Fclose(id_); break;
+    case H5I_GROUP: H5Gclose(id_); break;
+    case H5I_DATASET: H5Dclose(id_); break;
+    case H5I_DATASPACE: H5Sclose(id_); break;
+    case H5I_DATATYPE: H5Tclose(id_); break;
+    case H5I_ATTR: H5Aclose(id_); break;
+    case H5I_GENPROP_LST: H5Pclose(id_); break;
+    default: break;
+  }
+  id_ = H5I_INVALID_HID;
+}
+
+void quiet_library_errors() { H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr); }
+
+static void check(herr_t status, const std::string& what) {
+  if (status < 0) throw std::runtime_error("HDF5: " + what);
+}
+
+File File::create(const fs::path& path) {
+  quiet_library_errors();
+  File f;
+  f.name_ = path.string();
+  f.id_ = Id(H5Fcreate(f.name_.c_str(), H5F_ACC_TRUNC, H5P_DEFAULT, H5P_DEFAULT));
+  if (!f.id_) throw InputError(f.name_, "cannot create HDF5 file (is the folder writable, is the disk full?)");
+  return f;
+}
+
+File File::open_read(const fs::path& path) {
+  quiet_library_errors();
+  File f;
+  f.name_ = path.string();
+  std::error_code ec;
+  if (!fs::exists(path, ec)) throw InputError(f.name_, "file not found");
+  if (H5Fis_hdf5(f.name_.c_str()) <= 0) throw InputError(f.name_, "not an HDF5 file");
+  f.id_ = Id(H5Fopen(f.name_.c_str(), H5F_ACC_RDONLY, H5P_DEFAULT));
+  if (!f.id_) throw InputError(f.name_, "cannot open HDF5 file (truncated or damaged?)");
+  return f;
+}
+
+static std::pair<std::string, std::string> split_parent(const std::string& path) {
+  auto slash = path.rfind('/');
+  if (slash == std::string::npos) return {"", path};
+  return {path.substr(0, slash), path.substr(slash + 1)};
+}
+
+Id open_or_create_group(hid_t file, const std::string& path) {
+  if (path.empty() || path == "/") return Id(H5Gopen2(file, "/", H5P_DEFAULT));
+  std::string sofar;
+  Id g;
+  std::size_t start = 0;
+  while (start <= path.size()) {
+    auto slash = path.find('/', start);
+    std::string part = path.substr(start, slash == std::string::npos ? std::string::npos : slash - start);
+    if (!part.empty()) {
+      sofar += "/" + part;
+      if (H5Lexists(file, sofar.c_str(), H5P_DEFAULT) > 0)
+        g = Id(H5Gopen2(file, sofar.c_str(), H5P_DEFAULT));
+      else
+        g = Id(H5Gcreate2(file, sofar.c_str(), H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
+      if (!g) throw std::runtime_error("HDF5: cannot create group " + sofar);
+    }
+    if (slash == std::string::npos) break;
+    start = slash + 1;
+  }
+  return g;
+}
+
+// Chunk and compress datasets above this many elements; small ones stay
+// contiguous (chunking overhead would dominate).
+static constexpr hsize_t kChunkThreshold = 4096;
+
+static void write_dataset(hid_t file, const std::string& path, hid_t mem_type, hid_t file_type, const void* data,
+                          const std::vector<hsize_t>& dims) {
+  auto [parent, leaf] = split_parent(path);
+  Id group = open_or_create_group(file, parent);
+  Id space(H5Screate_simple(static_cast<int>(dims.size()), dims.data(), nullptr));
+  Id props(H5Pcreate(H5P_DATASET_CREATE));
+  hsize_t total = 1;
+  for (auto d : dims) total *= d;
+  if (total >= kChunkThreshold && !dims.empty()) {
+    // About 64k elements a chunk, whole rows of the trailing dimensions.
+    std::vector<hsize_t> chunk = dims;
+    hsize_t trailing = 1;
+    for (std::size_t i = 1; i < dims.size(); ++i) trailing *= dims[i];
+    chunk[0] = std::max<hsize_t>(1, std::min<hsize_t>(dims[0], 65536 / std::max<hsize_t>(1, trailing)));
+    for (std::size_t i = 1; i < dims.size() && trailing > 65536; ++i) chunk[i] = std::min<hsize_t>(dims[i], 256);
+    check(H5Pset_chunk(props.get(), static_cast<int>(chunk.size()), chunk.data()), "set chunk " + path);
+    check(H5Pset_shuffle(props.get()), "set shuffle " + path);
+    check(H5Pset_deflate(props.get(), 4), "set deflate " + path);
+  }
+  Id ds(H5Dcreate2(group.get(), leaf.c_str(), file_type, space.get(), H5P_DEFAULT, props.get(), H5P_DEFAULT));
+  if (!ds) throw std::runtime_error("HDF5: cannot create dataset " + path);
+  if (total > 0) check(H5Dwrite(ds.get(), mem_type, H5S_ALL, H5S_ALL, H5P_DEFAULT, data), "write " + path);
+}
+
+void write_numbers(hid_t file, const std::string& path, const double* data, const std::vector<hsize_t>& dims,
+                   const std::string& units) {
+  write_dataset(file, path, H5T_NATIVE_DOUBLE, H5T_IEEE_F64LE, data, dims);
+  write_attribute(file, path, "units", units);
+}
+
+void write_floats(hid_t file, const std::string& path, const float* data, const std::vector<hsize_t>& dims,
+                  const std::string& units) {
+  write_dataset(file, path, H5T_NATIVE_FLOAT, H5T_IEEE_F32LE, data, dims);
+  write_attribute(file, path, "units", units);
+}
+
+void write_integers(hid_t file, const std::string& path, const std::int64_t* data, std::size_t n,
+                    const std::string& units) {
+  write_dataset(file, path, H5T_NATIVE_INT64, H5T_STD_I64LE, data, {static_cast<hsize_t>(n)});
+  write_attribute(file, path, "units", units);
+}
+
+void write_uint8(hid_t file, const std::string& path, const std::uint8_t* data, const std::vector<hsize_t>& dims) {
+  write_dataset(file, path, H5T_NATIVE_UINT8, H5T_STD_U8LE, data, dims);
+  write_attribute(file, path, "units", std::string("1"));
+}
+
+static Id utf8_vlen_string() {
+  Id t(H5Tcopy(H5T_C_S1));
+  H5Tset_size(t.get(), H5T_VARIABLE);
+  H5Tset_cset(t.get(), H5T_CSET_UTF8);
+  return t;
+}
+
+void write_texts(hid_t file, const std::string& path, const std::vector<std::string>& values) {
+  std::vector<const char*> ptrs;
+  ptrs.reserve(values.size());
+  for (const auto& s : values) ptrs.push_back(s.c_str());
+  Id t = utf8_vlen_string();
+  write_dataset(file, path, t.get(), t.get(), ptrs.data(), {static_cast<hsize_t>(values.size())});
+}
+
+void write_text(hid_t file, const std::string& path, const std::string& value) {
+  auto [parent, leaf] = split_parent(path);
+  Id group = open_or_create_group(file, parent);
+  Id space(H5Screate(H5S_SCALAR));
+  Id t = utf8_vlen_string();
+  Id ds(H5Dcreate2(group.get(), leaf.c_str(), t.get(), space.get(), H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
+  if (!ds) throw std::runtime_error("HDF5: cannot create dataset " + path);
+  const char* p = value.c_str();
+  check(H5Dwrite(ds.get(), t.get(), H5S_ALL, H5S_ALL, H5P_DEFAULT, &p), "write " + path);
+}
+
+void write_attribute(hid_t object, const std::string& name, const AttributeValue& value) {
+  if (H5Aexists(object, name.c_str()) > 0) H5Adelete(object, name.c_str());
+  Id space(H5Screate(H5S_SCALAR));
+  if (const auto* d = std::get_if<double>(&value)) {
+    Id a(H5Acreate2(object, name.c_str(), H5T_IEEE_F64LE, space.get(), H5P_DEFAULT, H5P_DEFAULT));
+    check(H5Awrite(a.get(), H5T_NATIVE_DOUBLE, d), "write attribute " + name);
+  } else if (const auto* i = std::get_if<std::int64_t>(&value)) {
+    Id a(H5Acreate2(object, name.c_str(), H5T_STD_I64LE, space.get(), H5P_DEFAULT, H5P_DEFAULT));
+    check(H5Awrite(a.get(), H5T_NATIVE_INT64, i), "write attribute " + name);
+  } else {
+    const std::string& s = std::get<std::string>(value);
+    Id t = utf8_vlen_string();
+    Id a(H5Acreate2(object, name.c_str(), t.get(), space.get(), H5P_DEFAULT, H5P_DEFAULT));
+    const char* p = s.c_str();
+    check(H5Awrite(a.get(), t.get(), &p), "write attribute " + name);
+  }
+}
+
+void write_attribute(hid_t file, const std::string& object_path, const std::string& name,
+                     const AttributeValue& value) {
+  Id obj(H5Oopen(file, object_path.empty() ? "/" : object_path.c_str(), H5P_DEFAULT));
+  if (!obj) throw std::runtime_error("HDF5: no object " + object_path + " for attribute " + name);
+  write_attribute(obj.get(), name, value);
+}
+
+void write_text_list_attribute(hid_t object, const std::string& name, const std::vector<std::string>& values) {
+  if (H5Aexists(object, name.c_str()) > 0) H5Adelete(object, name.c_str());
+  std::vector<const char*> ptrs;
+  for (const auto& s : values) ptrs.push_back(s.c_str());
+  hsize_t n = values.size();
+  Id space(H5Screate_simple(1, &n, nullptr));
+  Id t = utf8_vlen_string();
+  Id a(H5Acreate2(object, name.c_str(), t.get(), space.get(), H5P_DEFAULT, H5P_DEFAULT));
+  if (n) check(H5Awrite(a.get(), t.get(), ptrs.data()), "write attribute " + name);
+}
+
+bool has_attribute(hid_t file, const std::string& object_path, const std::string& name) {
+  if (!object_path.empty() && !exists(file, object_path)) return false;
+  return H5Aexists_by_name(file, object_path.empty() ? "/" : object_path.c_str(), name.c_str(), H5P_DEFAULT) > 0;
+}
+
+bool exists(hid_t file, const std::string& path) {
+  // Every intermediate link must exist for H5Lexists on the full path.
+  std::string sofar;
+  std::size_t start = 0;
+  while (start <= path.size()) {
+    auto slash = path.find('/', start);
+    std::string part = path.substr(start, slash == std::string::npos ? std::string::npos : slash - start);
+    if (!part.empty()) {
+      sofar += "/" + part;
+      if (H5Lexists(file, sofar.c_str(), H5P_DEFAULT) <= 0) return false;
+    }
+    if (slash == std::string::npos) break;
+    start = slash + 1;
+  }
+  return true;
+}
+
+bool is_group(hid_t file, const std::string& path) {
+  if (!exists(file, path)) return false;
+  H5O_info_t oi;
+  if (H5Oget_info_by_name(file, path.c_str(), &oi, H5P_DEFAULT) < 0) return false;
+  return oi.type == H5O_TYPE_GROUP;
+}
+
+std::vector<std::string> children(hid_t file, const std::string& group_path) {
+  std::vector<std::string> names;
+  Id g(H5Gopen2(file, group_path.empty() ? "/" : group_path.c_str(), H5P_DEFAULT));
+  if (!g) return names;
+  H5Literate(
+      g.get(), H5_INDEX_NAME, H5_ITER_INC, nullptr,
+      [](hid_t, const char* name, const H5L_info_t*, void* out) -> herr_t {
+        static_cast<std::vector<std::string>*>(out)->emplace_back(name);
+        return 0;
+      },
+      &names);
+  std::sort(names.begin(), names.end());
+  return names;
+}
+
+static Id open_dataset(hid_t file, const std::string& path, const std::string& file_name) {
+  if (!exists(file, path)) throw InputError(file_name, "dataset /" + path + " is missing");
+  Id ds(H5Dopen2(file, path.c_str(), H5P_DEFAULT));
+  if (!ds) throw InputError(file_name, "/" + path + " is not a readable dataset");
+  return ds;
+}
+
+DatasetInfo info(hid_t file, const std::string& path, const std::string& file_name) {
+  Id ds = open_dataset(file, path, file_name);
+  Id space(H5Dget_space(ds.get()));
+  int rank = H5Sget_simple_extent_ndims(space.get());
+  if (rank < 0) throw InputError(file_name, "/" + path + " has an unreadable shape");
+  DatasetInfo out;
+  out.dims.resize(static_cast<std::size_t>(rank));
+  H5Sget_simple_extent_dims(space.get(), out.dims.data(), nullptr);
+  Id type(H5Dget_type(ds.get()));
+  out.type_class = H5Tget_class(type.get());
+  return out;
+}
+
+template <typename T>
+static std::vector<T> read_numeric(hid_t file, const std::string& path, const std::string& file_name,
+                                   hid_t mem_type, std::vector<hsize_t>* dims_out) {
+  DatasetInfo di = info(file, path, file_name);
+  if (di.type_class != H5T_FLOAT && di.type_class != H5T_INTEGER)
+    throw InputError(file_name, "/" + path + " must be numeric");
+  hsize_t n = 1;
+  for (auto d : di.dims) n *= d;
+  std::vector<T> out(n);
+  Id ds = open_dataset(file, path, file_name);
+  if (n && H5Dread(ds.get(), mem_type, H5S_ALL, H5S_ALL, H5P_DEFAULT, out.data()) < 0)
+    throw InputError(file_name, "/" + path + " cannot be read (truncated file?)");
+  if (dims_out) *dims_out = di.dims;
+  return out;
+}
+
+std::vector<double> read_numbers(hid_t file, const std::string& path, const std::string& file_name,
+                                 std::vector<hsize_t>* dims) {
+  return read_numeric<double>(file, path, file_name, H5T_NATIVE_DOUBLE, dims);
+}
+
+std::vector<float> read_floats(hid_t file, const std::string& path, const std::string& file_name,
+                               std::vector<hsize_t>* dims) {
+  return read_numeric<float>(file, path, file_name, H5T_NATIVE_FLOAT, dims);
+}
+
+std::vector<std::int64_t> read_integers(hid_t file, const std::string& path, const std::string& file_name) {
+  return read_numeric<std::int64_t>(file, path, file_name, H5T_NATIVE_INT64, nullptr);
+}
+
+std::vector<std::string> read_texts(hid_t file, const std::string& path, const std::string& file_name) {
+  DatasetInfo di = info(file, path, file_name);
+  if (di.type_class != H5T_STRING) throw InputError(file_name, "/" + path + " must hold strings");
+  Id ds = open_dataset(file, path, file_name);
+  Id ftype(H5Dget_type(ds.get()));
+  hsize_t n = di.dims.empty() ? 1 : di.dims[0];
+  std::vector<std::string> out;
+  if (H5Tis_variable_str(ftype.get()) > 0) {
+    Id t = utf8_vlen_string();
+    std::vector<char*> ptrs(n, nullptr);
+    if (n && H5Dread(ds.get(), t.get(), H5S_ALL, H5S_ALL, H5P_DEFAULT, ptrs.data()) < 0)
+      throw InputError(file_name, "/" + path + " cannot be read");
+    for (char* p : ptrs) out.emplace_back(p ? p : "");
+    Id space(H5Dget_space(ds.get()));
+    H5Dvlen_reclaim(t.get(), space.get(), H5P_DEFAULT, ptrs.data());
+  } else {
+    std::size_t size = H5Tget_size(ftype.get());
+    std::vector<char> buf(n * size);
+    if (n && H5Dread(ds.get(), ftype.get(), H5S_ALL, H5S_ALL, H5P_DEFAULT, buf.data()) < 0)
+      throw InputError(file_name, "/" + path + " cannot be read");
+    for (hsize_t i = 0; i < n; ++i) {
+      std::string s(buf.data() + i * size, size);
+      s.erase(std::find(s.begin(), s.end(), '\0'), s.end());
+      out.push_back(s);
+    }
+  }
+  return out;
+}
+
+std::optional<AttributeValue> read_attribute(hid_t file, const std::string& object_path, const std::string& name) {
+  const char* obj = object_path.empty() ? "/" : object_path.c_str();
+  if (!object_path.empty() && !exists(file, object_path)) return std::nullopt;
+  if (H5Aexists_by_name(file, obj, name.c_str(), H5P_DEFAULT) <= 0) return std::nullopt;
+  Id a(H5Aopen_by_name(file, obj, name.c_str(), H5P_DEFAULT, H5P_DEFAULT));
+  Id type(H5Aget_type(a.get()));
+  Id space(H5Aget_space(a.get()));
+  if (H5Sget_simple_extent_npoints(space.get()) != 1) return std::nullopt;  // a list: read_text_list_attribute
+  switch (H5Tget_class(type.get())) {
+    case H5T_FLOAT: {
+      double d = 0;
+      if (H5Aread(a.get(), H5T_NATIVE_DOUBLE, &d) < 0) return std::nullopt;
+      return d;
+    }
+    case H5T_INTEGER: {
+      std::int64_t i = 0;
+      if (H5Aread(a.get(), H5T_NATIVE_INT64, &i) < 0) return std::nullopt;
+      return i;
+    }
+    case H5T_STRING: {
+      if (H5Tis_variable_str(type.get()) > 0) {
+        Id t = utf8_vlen_string();
+        char* p = nullptr;
+        if (H5Aread(a.get(), t.get(), &p) < 0) return std::nullopt;
+        std::string s = p ? p : "";
+        H5free_memory(p);
+        return s;
+      }
+      std::string s(H5Tget_size(type.get()), '\0');
+      if (H5Aread(a.get(), type.get(), s.data()) < 0) return std::nullopt;
+      s.erase(std::find(s.begin(), s.end(), '\0'), s.end());
+      return s;
+    }
+    default: return std::nullopt;
+  }
+}
+
+std::vector<std::string> read_text_list_attribute(hid_t file, const std::string& object_path,
+                                                  const std::string& name) {
+  const char* obj = object_path.empty() ? "/" : object_path.c_str();
+  std::vector<std::string> out;
+  if (H5Aexists_by_name(file, obj, name.c_str(), H5P_DEFAULT) <= 0) return out;
+  Id a(H5Aopen_by_name(file, obj, name.c_str(), H5P_DEFAULT, H5P_DEFAULT));
+  Id type(H5Aget_type(a.get()));
+  if (H5Tget_class(type.get()) != H5T_STRING) return out;
+  Id space(H5Aget_space(a.get()));
+  hssize_t n = H5Sget_simple_extent_npoints(space.get());
+  if (n <= 0) return out;
+  if (H5Tis_variable_str(type.get()) > 0) {
+    Id t = utf8_vlen_string();
+    std::vector<char*> ptrs(static_cast<std::size_t>(n), nullptr);
+    if (H5Aread(a.get(), t.get(), ptrs.data()) < 0) return out;
+    for (char* p : ptrs) out.emplace_back(p ? p : "");
+    H5Dvlen_reclaim(t.get(), space.get(), H5P_DEFAULT, ptrs.data());
+  } else {
+    std::size_t size = H5Tget_size(type.get());
+    std::vector<char> buf(static_cast<std::size_t>(n) * size);
+    if (H5Aread(a.get(), type.get(), buf.data()) < 0) return out;
+    for (hssize_t i = 0; i < n; ++i) {
+      std::string s(buf.data() + i * size, size);
+      s.erase(std::find(s.begin(), s.end(), '\0'), s.end());
+      out.push_back(s);
+    }
+  }
+  return out;
+}
+
+std::vector<std::string> attribute_names(hid_t file, const std::string& object_path) {
+  std::vector<std::string> names;
+  Id obj(H5Oopen(file, object_path.empty() ? "/" : object_path.c_str(), H5P_DEFAULT));
+  if (!obj) return names;
+  H5Aiterate2(
+      obj.get(), H5_INDEX_NAME, H5_ITER_INC, nullptr,
+      [](hid_t, const char* name, const H5A_info_t*, void* out) -> herr_t {
+        static_cast<std::vector<std::string>*>(out)->emplace_back(name);
+        return 0;
+      },
+      &names);
+  return names;
+}
+
+}  // namespace stallscope::h5

@@ -1,0 +1,105 @@
+// stallscope: reduce wind-tunnel data of pitching airfoils in dynamic stall.
+// main() turns errors into one line and the exit code: 0 success, 2 bad usage
+// or bad input, 1 internal failure.
+#include <CLI/CLI.hpp>
+#include <fmt/format.h>
+
+#include <cstdio>
+#include <iostream>
+
+#include "pipeline/errors.hpp"
+#include "pipeline/inspect.hpp"
+#include "pipeline/reduce.hpp"
+#include "pipeline/registry.hpp"
+#include "stallscope/version.hpp"
+
+namespace {
+
+using namespace stallscope;
+
+std::string joined_command_line(int argc, char** argv) {
+  std::string s;
+  for (int i = 0; i < argc; ++i) s += (i ? " " : "") + std::string(argv[i]);
+  return s;
+}
+
+int run(int argc, char** argv) {
+  CLI::App app{"stallscope: reduce wind-tunnel data of pitching airfoils in dynamic stall"};
+  app.set_version_flag("--version", fmt::format("stallscope {} (commit {})", kToolVersion, kGitCommit));
+  app.require_subcommand(1);
+  bool quiet = false;
+  app.add_flag("-q,--quiet", quiet, "no progress messages on stderr");
+
+  ReduceRequest reduce_request;
+  auto* reduce_cmd = app.add_subcommand("reduce", "reduce one tunnel run into an archive");
+  reduce_cmd->add_option("config", reduce_request.config, "run configuration (TOML)")->required();
+  reduce_cmd->add_option("-o,--output", reduce_request.output_directory, "folder for the archive and exports")
+      ->capture_default_str();
+  reduce_cmd->add_flag("--force", reduce_request.force, "overwrite an existing archive");
+  reduce_cmd->add_option("-j,--threads", reduce_request.threads, "threads to use (0: all cores)")
+      ->check(CLI::NonNegativeNumber);
+  reduce_cmd->add_flag("-q,--quiet", quiet, "no progress messages on stderr");
+
+  std::string archive;
+  auto* inspect_cmd = app.add_subcommand("inspect", "summarise a reduced archive");
+  inspect_cmd->add_option("archive", archive, "archive (.h5)")->required();
+  auto* verify_cmd = app.add_subcommand("verify", "re-hash the raw inputs named in an archive's provenance");
+  verify_cmd->add_option("archive", archive, "archive (.h5)")->required();
+  verify_cmd->add_flag("-q,--quiet", quiet, "print only changed or missing inputs");
+
+  auto* stages_cmd = app.add_subcommand("stages", "list the stages a config can enable");
+
+  try {
+    app.parse(argc, argv);
+  } catch (const CLI::CallForHelp& e) {
+    return app.exit(e);
+  } catch (const CLI::CallForAllHelp& e) {
+    return app.exit(e);
+  } catch (const CLI::CallForVersion& e) {
+    return app.exit(e);
+  } catch (const CLI::ParseError& e) {
+    std::fprintf(stderr, "stallscope: error: %s (see --help)\n", e.what());
+    return 2;
+  }
+
+  if (*reduce_cmd) {
+    reduce_request.command_line = joined_command_line(argc, argv);
+    Progress progress = Progress::for_stderr(quiet);
+    ReduceSummary summary = reduce(reduce_request, progress);
+    std::cout << summary.brief();
+    return 0;
+  }
+  if (*inspect_cmd) {
+    std::cout << inspect_archive(archive);
+    return 0;
+  }
+  if (*verify_cmd) {
+    auto checks = verify_archive(archive);
+    bool all_same = true;
+    for (const auto& c : checks) all_same = all_same && c.state == InputCheck::State::kSame;
+    std::cout << describe(checks);
+    return all_same ? 0 : 2;
+  }
+  if (*stages_cmd) {
+    for (const auto& s : registered_stages()) std::cout << fmt::format("{:<16} {}\n", s.name, s.summary);
+    return 0;
+  }
+  return 2;
+}
+
+}  // namespace
+
+int main(int argc, char** argv) {
+  try {
+    return run(argc, argv);
+  } catch (const stallscope::InputError& e) {
+    std::fprintf(stderr, "stallscope: error: %s\n", e.what());
+    return 2;
+  } catch (const stallscope::UsageError& e) {
+    std::fprintf(stderr, "stallscope: error: %s\n", e.what());
+    return 2;
+  } catch (const std::exception& e) {
+    std::fprintf(stderr, "stallscope: internal error: %s\n", e.what());
+    return 1;
+  }
+}

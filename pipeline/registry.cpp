@@ -1,0 +1,26 @@
+#include "pipeline/registry.hpp"
+
+#include "stages/conditions.hpp"
+#include "stages/daq.hpp"
+#include "stages/run.hpp"
+
+namespace stallscope {
+
+const std::vector<StageInfo>& registered_stages() {
+  static const std::vector<StageInfo> kStages = {
+#define STAGE(Class) {Class::kName, Class::kSummary},
+#include "pipeline/stages.def"
+#undef STAGE
+  };
+  return kStages;
+}
+
+std::unique_ptr<Stage> make_stage(std::string_view name) {
+#define STAGE(Class) \
+  if (name == Class::kName) return std::make_unique<Class>();
+#include "pipeline/stages.def"
+#undef STAGE
+  return nullptr;
+}
+
+}  // namespace stallscope

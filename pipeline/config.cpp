@@ -56,9 +56,11 @@ ConfigSection::ConfigSection(const ConfigFile& file, std::string name, const tom
 
 std::string ConfigSection::where(const std::string& key) const {
   std::string at = file_->path().string();
-  const toml::node* n = key.empty() ? static_cast<const toml::node*>(table_) : find(key);
-  if (n && n->source().begin.line > 0)
-    at += ":" + std::to_string(n->source().begin.line) + ":" + std::to_string(n->source().begin.column);
+  // TOML++ records where each value (and table) begins; that is the line the user looks at.
+  toml::source_position pos{};
+  if (key.empty() && table_) pos = table_->source().begin;
+  if (const toml::node* n = key.empty() ? nullptr : find(key)) pos = n->source().begin;
+  if (pos.line > 0) at += ":" + std::to_string(pos.line) + ":" + std::to_string(pos.column);
   std::string dotted = name_.empty() ? key : (key.empty() ? name_ : name_ + "." + key);
   return dotted.empty() ? at : at + ": " + dotted;
 }

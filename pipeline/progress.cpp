@@ -19,7 +19,6 @@ void Progress::begin(const std::string& task, std::size_t total) {
   total_ = total;
   done_ = 0;
   started_ = last_draw_ = Clock::now();
-  if (mode_ == Mode::kLines) std::fprintf(stderr, "stallscope: %s ...\n", task_.c_str());
   draw(true);
 }
 

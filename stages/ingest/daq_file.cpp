@@ -1,5 +1,7 @@
 #include "stages/ingest/daq_file.hpp"
 
+#include <algorithm>
+#include <cctype>
 #include <charconv>
 #include <cmath>
 #include <fstream>
@@ -29,7 +31,13 @@ DaqRecord read_daq_file(const fs::path& path) {
   std::error_code ec;
   if (!fs::exists(path, ec)) throw InputError(path.string(), "DAQ file not found");
   if (fs::file_size(path, ec) == 0) throw InputError(path.string(), "DAQ file is empty");
-  DaqRecord r = looks_like_hdf5(path) ? read_daq_hdf5(path) : read_daq_csv(path);
+  // The extension, when it names a format, must agree with the content.
+  std::string ext = path.extension().string();
+  std::transform(ext.begin(), ext.end(), ext.begin(), [](unsigned char c) { return std::tolower(c); });
+  const bool hdf5_name = ext == ".h5" || ext == ".hdf5" || ext == ".hdf";
+  const bool hdf5_content = looks_like_hdf5(path);
+  if (hdf5_name && !hdf5_content) throw InputError(path.string(), "not an HDF5 file (no HDF5 signature)");
+  DaqRecord r = hdf5_content ? read_daq_hdf5(path) : read_daq_csv(path);
   check_daq_record(r);
   return r;
 }

@@ -291,6 +291,20 @@ std::vector<float> read_floats(hid_t file, const std::string& path, const std::s
   return read_numeric<float>(file, path, file_name, H5T_NATIVE_FLOAT, dims);
 }
 
+void read_rows(hid_t file, const std::string& path, const std::string& file_name, hsize_t row0, hsize_t rows,
+               double* out) {
+  DatasetInfo di = info(file, path, file_name);
+  if (di.dims.size() != 2 || row0 + rows > di.dims[0])
+    throw std::logic_error("read_rows outside /" + path + " in " + file_name);
+  Id ds = open_dataset(file, path, file_name);
+  Id fspace(H5Dget_space(ds.get()));
+  hsize_t start[2] = {row0, 0}, count[2] = {rows, di.dims[1]};
+  H5Sselect_hyperslab(fspace.get(), H5S_SELECT_SET, start, nullptr, count, nullptr);
+  Id mspace(H5Screate_simple(2, count, nullptr));
+  if (rows && H5Dread(ds.get(), H5T_NATIVE_DOUBLE, mspace.get(), fspace.get(), H5P_DEFAULT, out) < 0)
+    throw InputError(file_name, "/" + path + " cannot be read (truncated file?)");
+}
+
 std::vector<std::int64_t> read_integers(hid_t file, const std::string& path, const std::string& file_name) {
   return read_numeric<std::int64_t>(file, path, file_name, H5T_NATIVE_INT64, nullptr);
 }

@@ -77,6 +77,9 @@ std::vector<double> read_numbers(hid_t file, const std::string& path, const std:
                                  std::vector<hsize_t>* dims = nullptr);
 std::vector<float> read_floats(hid_t file, const std::string& path, const std::string& file_name,
                                std::vector<hsize_t>* dims = nullptr);
+// Rows [row0, row0 + rows) of a 2-D numeric dataset, row-major into out.
+void read_rows(hid_t file, const std::string& path, const std::string& file_name, hsize_t row0, hsize_t rows,
+               double* out);
 std::vector<std::int64_t> read_integers(hid_t file, const std::string& path, const std::string& file_name);
 std::vector<std::string> read_texts(hid_t file, const std::string& path, const std::string& file_name);
 std::optional<AttributeValue> read_attribute(hid_t file, const std::string& object_path, const std::string& name);

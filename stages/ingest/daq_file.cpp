@@ -126,11 +126,13 @@ DaqRecord read_daq_hdf5(const fs::path& path) {
   const std::string& fn = f.name();
   DaqRecord r;
   r.source = fn;
-  std::vector<hsize_t> tdims, vdims;
+  std::vector<hsize_t> tdims;
   auto t = h5::read_numbers(f.id(), "daq/time_s", fn, &tdims);
-  auto v = h5::read_numbers(f.id(), "daq/volts", fn, &vdims);
+  h5::DatasetInfo vi = h5::info(f.id(), "daq/volts", fn);
+  const std::vector<hsize_t>& vdims = vi.dims;
   if (tdims.size() != 1) throw InputError(fn, "/daq/time_s must be 1-D (samples)");
   if (vdims.size() != 2) throw InputError(fn, "/daq/volts must be 2-D (samples x channels)");
+  if (vi.type_class != H5T_FLOAT && vi.type_class != H5T_INTEGER) throw InputError(fn, "/daq/volts must be numeric");
   if (vdims[0] != tdims[0])
     throw InputError(fn, "/daq/volts has " + std::to_string(vdims[0]) + " rows but /daq/time_s has " +
                              std::to_string(tdims[0]) + " samples");
@@ -140,8 +142,17 @@ DaqRecord read_daq_hdf5(const fs::path& path) {
     throw InputError(fn, "/daq/volts attribute 'channels' names " + std::to_string(r.channels.size()) +
                              " channels, the dataset has " + std::to_string(vdims[1]) + " columns");
   r.time_s = Eigen::Map<Eigen::VectorXd>(t.data(), static_cast<Eigen::Index>(t.size()));
-  r.volts = Eigen::Map<Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor>>(
-      v.data(), static_cast<Eigen::Index>(vdims[0]), static_cast<Eigen::Index>(vdims[1]));
+  // Read in blocks of rows and transpose each block while it is in cache: the
+  // store keeps one contiguous column per channel.
+  const auto n = static_cast<Eigen::Index>(vdims[0]), channels = static_cast<Eigen::Index>(vdims[1]);
+  r.volts.resize(n, channels);
+  constexpr Eigen::Index kBlock = 4096;
+  Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor> block(std::min(kBlock, n), channels);
+  for (Eigen::Index row0 = 0; row0 < n; row0 += kBlock) {
+    const Eigen::Index rows = std::min(kBlock, n - row0);
+    h5::read_rows(f.id(), "daq/volts", fn, static_cast<hsize_t>(row0), static_cast<hsize_t>(rows), block.data());
+    r.volts.middleRows(row0, rows) = block.topRows(rows);
+  }
   return r;
 }
 

@@ -1,5 +1,7 @@
 #include "calib/tubing/bergh_tijdeman.hpp"
 
+#include "calib/air/air.hpp"
+
 #include <cmath>
 #include <numbers>
 #include <stdexcept>
@@ -10,12 +12,6 @@ namespace {
 
 using Complex = std::complex<double>;
 constexpr double kPi = std::numbers::pi;
-
-// U.S. Standard Atmosphere 1976: R* = 8314.32 J/(kmol K), M0 = 28.9644 kg/kmol,
-// Sutherland beta = 1.458e-6 kg/(m s K^0.5), S = 110.4 K.
-constexpr double kGasConstantAir = 8314.32 / 28.9644;
-constexpr double kSutherlandBeta = 1.458e-6;
-constexpr double kSutherlandS = 110.4;
 
 // Beyond this |z| the asymptotic series is better than 1e-20 before its terms grow.
 constexpr double kAsymptoticFrom = 25.0;
@@ -94,9 +90,9 @@ AirProperties::AirProperties(double temperature_k, double pressure_pa) {
   if (!(temperature_k > 0.0 && pressure_pa > 0.0)) {
     throw std::invalid_argument("air properties need temperature > 0 K and pressure > 0 Pa");
   }
-  rho = pressure_pa / (kGasConstantAir * temperature_k);
-  mu = kSutherlandBeta * std::pow(temperature_k, 1.5) / (temperature_k + kSutherlandS);
-  a0 = std::sqrt(gamma * kGasConstantAir * temperature_k);
+  rho = air::density(pressure_pa, temperature_k);
+  mu = air::viscosity(temperature_k);
+  a0 = air::speed_of_sound(temperature_k);
   k_p = gamma;
 }
 

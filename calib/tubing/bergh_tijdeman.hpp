@@ -22,8 +22,7 @@ struct AirProperties {
 
   // Dry air at 20 C and 101325 Pa.
   AirProperties();
-  // Ideal gas with R = 8314.32/28.9644 J/(kg K) and Sutherland's law
-  // mu = 1.458e-6 T^1.5 / (T + 110.4) (both as in the U.S. Standard Atmosphere 1976).
+  // Ideal gas and Sutherland's law, from calib/air (standard-atmosphere constants).
   // Throws std::invalid_argument unless T > 0 and p > 0.
   AirProperties(double temperature_k, double pressure_pa);
 };

@@ -3,6 +3,8 @@
 #include "stages/conditions.hpp"
 #include "stages/daq.hpp"
 #include "stages/run.hpp"
+#include "stages/piv/piv_stage.hpp"
+#include "stages/piv/vortex_stage.hpp"
 
 namespace stallscope {
 

@@ -1,0 +1,172 @@
+#include "stages/piv/detection.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <numeric>
+#include <opencv2/imgproc.hpp>
+
+#include "stages/piv/validation.hpp"
+
+namespace stallscope::piv {
+
+double noise_swirl(const SwirlField& field) {
+  std::vector<double> w;
+  w.reserve(field.vorticity.size());
+  for (double x : field.vorticity)
+    if (std::isfinite(x)) w.push_back(x);
+  if (w.empty()) return 0.0;
+  const double m = median_of(w);
+  for (double& x : w) x = std::abs(x - m);
+  // 1.4826 MAD is the standard deviation of Gaussian noise.
+  return 0.5 * 1.4826 * median_of(std::move(w));
+}
+
+int label_regions(const std::vector<std::uint8_t>& mask, std::size_t ny, std::size_t nx, std::vector<int>& labels) {
+  if (mask.size() != ny * nx) throw std::logic_error("mask does not match its grid");
+  labels.assign(ny * nx, 0);
+  if (mask.empty()) return 0;
+  cv::Mat in(static_cast<int>(ny), static_cast<int>(nx), CV_8U, const_cast<std::uint8_t*>(mask.data()));
+  cv::Mat out(static_cast<int>(ny), static_cast<int>(nx), CV_32S, labels.data());
+  cv::Mat stats, centroids;
+  const int n = cv::connectedComponentsWithStats(in, out, stats, centroids, 8, CV_32S);
+  return n - 1;
+}
+
+std::vector<double> cell_areas(const Grid& g) {
+  // Half the distance between the neighbours on each side (half a spacing at an edge).
+  auto widths = [](const std::vector<double>& s) {
+    std::vector<double> w(s.size());
+    for (std::size_t k = 0; k < s.size(); ++k)
+      w[k] = 0.5 * std::abs(s[std::min(k + 1, s.size() - 1)] - s[k > 0 ? k - 1 : 0]);
+    return w;
+  };
+  const auto wx = widths(g.x_m), wy = widths(g.y_m);
+  std::vector<double> a(g.size());
+  for (std::size_t j = 0; j < g.ny(); ++j)
+    for (std::size_t i = 0; i < g.nx(); ++i) a[j * g.nx() + i] = wx[i] * wy[j];
+  return a;
+}
+
+namespace {
+
+struct UnionFind {
+  std::vector<int> parent;
+  explicit UnionFind(int n) : parent(static_cast<std::size_t>(n)) { std::iota(parent.begin(), parent.end(), 0); }
+  int find(int a) {
+    while (parent[static_cast<std::size_t>(a)] != a) a = parent[static_cast<std::size_t>(a)] = parent[static_cast<std::size_t>(parent[static_cast<std::size_t>(a)])];
+    return a;
+  }
+  void join(int a, int b) {
+    a = find(a), b = find(b);
+    if (a != b) parent[static_cast<std::size_t>(std::max(a, b))] = std::min(a, b);
+  }
+};
+
+}  // namespace
+
+std::vector<Detection> detect_vortices(const Grid& grid, const SwirlField& field,
+                                       const std::vector<std::uint8_t>& replaced, const DetectionOptions& o,
+                                       double* threshold_out) {
+  const std::size_t nx = grid.nx(), ny = grid.ny(), n = grid.size();
+  const double threshold = std::max(o.min_threshold, o.noise_factor * noise_swirl(field));
+  if (threshold_out) *threshold_out = threshold;
+  const std::vector<double> area = cell_areas(grid);
+  auto above = [&](std::size_t p, double level, int sign) {
+    const double w = field.vorticity[p], s = field.swirl[p];
+    return std::isfinite(s) && s > level && (sign > 0 ? w > 0 : w < 0);
+  };
+  std::vector<Detection> out;
+  for (int sign : {+1, -1}) {
+    std::vector<std::uint8_t> mask(n);
+    for (std::size_t p = 0; p < n; ++p) mask[p] = above(p, threshold, sign) ? 1 : 0;
+    std::vector<int> labels;
+    const int count = label_regions(mask, ny, nx, labels);
+    if (count == 0) continue;
+    // Cells and bounding boxes of each region, then join regions that lie
+    // within the clustering gap of each other.
+    std::vector<std::vector<std::size_t>> cells(static_cast<std::size_t>(count) + 1);
+    for (std::size_t p = 0; p < n; ++p)
+      if (labels[p]) cells[static_cast<std::size_t>(labels[p])].push_back(p);
+    UnionFind uf(count + 1);
+    const long reach = o.cluster_gap_cells + 1;  // Chebyshev distance between cells that merge
+    for (int a = 1; a <= count; ++a)
+      for (const std::size_t p : cells[static_cast<std::size_t>(a)]) {
+        const long pj = static_cast<long>(p / nx), pi = static_cast<long>(p % nx);
+        for (long dj = -reach; dj <= reach; ++dj)
+          for (long di = -reach; di <= reach; ++di) {
+            const long qj = pj + dj, qi = pi + di;
+            if (qj < 0 || qi < 0 || qj >= static_cast<long>(ny) || qi >= static_cast<long>(nx)) continue;
+            const int b = labels[static_cast<std::size_t>(qj) * nx + static_cast<std::size_t>(qi)];
+            if (b > a) uf.join(a, b);
+          }
+      }
+    std::vector<int> root_rank(static_cast<std::size_t>(count) + 1, -1);
+    std::vector<std::vector<std::size_t>> clusters;
+    std::vector<std::size_t> members;
+    for (int a = 1; a <= count; ++a) {
+      const int r = uf.find(a);
+      if (root_rank[static_cast<std::size_t>(r)] < 0) {
+        root_rank[static_cast<std::size_t>(r)] = static_cast<int>(clusters.size());
+        clusters.emplace_back();
+        members.push_back(0);
+      }
+      const auto k = static_cast<std::size_t>(root_rank[static_cast<std::size_t>(r)]);
+      auto& c = clusters[k];
+      c.insert(c.end(), cells[static_cast<std::size_t>(a)].begin(), cells[static_cast<std::size_t>(a)].end());
+      ++members[k];
+    }
+    for (std::size_t k = 0; k < clusters.size(); ++k) {
+      auto& c = clusters[k];
+      if (static_cast<int>(c.size()) < o.min_cells) continue;
+      std::sort(c.begin(), c.end());
+      Detection d;
+      d.sign = sign;
+      d.cells = c.size();
+      d.regions = members[k];
+      double wsum = 0, wx = 0, wy = 0;
+      std::vector<std::uint8_t> in(n, 0);
+      for (const std::size_t p : c) {
+        in[p] = 1;
+        const double s = field.swirl[p];
+        const double x = grid.x_m[p % nx], y = grid.y_m[p / nx];
+        wsum += s, wx += s * x, wy += s * y;
+        d.circulation += field.vorticity[p] * area[p];
+        if (s > o.strict_factor * threshold) d.circulation_strict += field.vorticity[p] * area[p];
+        d.peak_swirl = std::max(d.peak_swirl, s);
+        d.area_m2 += area[p];
+        if (!replaced.empty() && replaced[p]) ++d.replaced_cells;
+      }
+      d.x_m = wx / wsum;
+      d.y_m = wy / wsum;
+      auto nearest = [](const std::vector<double>& axis, double v) {
+        std::size_t best = 0;
+        for (std::size_t k2 = 1; k2 < axis.size(); ++k2)
+          if (std::abs(axis[k2] - v) < std::abs(axis[best] - v)) best = k2;
+        return best;
+      };
+      d.centre_i = nearest(grid.x_m, d.x_m);
+      d.centre_j = nearest(grid.y_m, d.y_m);
+      // The looser boundary: grow the region through same-sign cells above it.
+      std::vector<std::size_t> stack(c.begin(), c.end());
+      d.circulation_loose = d.circulation;
+      const double loose = o.loose_factor * threshold;
+      while (!stack.empty()) {
+        const std::size_t p = stack.back();
+        stack.pop_back();
+        const std::size_t pj = p / nx, pi = p % nx;
+        for (std::size_t qj = pj ? pj - 1 : 0; qj <= std::min(pj + 1, ny - 1); ++qj)
+          for (std::size_t qi = pi ? pi - 1 : 0; qi <= std::min(pi + 1, nx - 1); ++qi) {
+            const std::size_t q = qj * nx + qi;
+            if (in[q] || !above(q, loose, sign)) continue;
+            in[q] = 1;
+            d.circulation_loose += field.vorticity[q] * area[q];
+            stack.push_back(q);
+          }
+      }
+      out.push_back(d);
+    }
+  }
+  return out;
+}
+
+}  // namespace stallscope::piv

@@ -1,0 +1,330 @@
+#include "stages/piv/piv_stage.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <exception>
+#include <limits>
+#include <numbers>
+
+#include "pipeline/errors.hpp"
+#include "stages/piv/airfoil_frame.hpp"
+#include "stages/piv/detection.hpp"
+#include "stages/piv/frame_source.hpp"
+#include "stages/piv/swirl.hpp"
+#include "stages/piv/time_sync.hpp"
+#include "stages/piv/validation.hpp"
+
+namespace stallscope {
+
+namespace {
+
+constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+
+// Linear interpolation of y(t) at tq; NaN outside [t.front(), t.back()].
+double interpolate(const Eigen::VectorXd& t, const Eigen::VectorXd& y, double tq) {
+  const Eigen::Index n = t.size();
+  if (n == 0 || !(tq >= t[0] && tq <= t[n - 1])) return kNaN;
+  const auto* it = std::upper_bound(t.data(), t.data() + n, tq);
+  const Eigen::Index k = std::clamp<Eigen::Index>(it - t.data(), 1, n - 1);
+  const double w = (tq - t[k - 1]) / (t[k] - t[k - 1]);
+  return y[k - 1] + w * (y[k] - y[k - 1]);
+}
+
+theory::Naca4Section section_of(const std::string& airfoil, const std::string& where) {
+  std::string digits;
+  for (char c : airfoil)
+    if (std::isdigit(static_cast<unsigned char>(c))) digits += c;
+  std::string upper;
+  for (char c : airfoil)
+    if (std::isalpha(static_cast<unsigned char>(c))) upper += static_cast<char>(std::toupper(static_cast<unsigned char>(c)));
+  if (upper != "NACA" || digits.size() != 4)
+    throw InputError(where, "the airfoil mask needs a NACA 4-digit section, [run] airfoil is '" + airfoil +
+                                "' (set [piv] mask_airfoil = false to measure without a mask)");
+  return theory::parse_naca4(digits, false, where);
+}
+
+struct FrameResult {
+  piv::ValidationCounts counts;
+  double noise = kNaN, threshold = kNaN;
+  std::vector<piv::Detection> detections;
+  std::vector<double> gamma2;
+  std::string reason;  // empty: processed
+};
+
+}  // namespace
+
+void PivStage::configure(ConfigSection& s) {
+  Options& o = options_;
+  where_file_ = s.where("file");
+  o.file = s.path("file");
+  where_units_ = s.where("text_units");
+  o.text_units = s.choice("text_units", {"m/s", "px/frame"}, o.text_units);
+  o.metres_per_pixel = s.number("metres_per_pixel", o.metres_per_pixel);
+  s.require(o.metres_per_pixel >= 0, "metres_per_pixel", "expected a scale in m/px, > 0 (0: not given)");
+  o.pulse_separation_s = s.number("pulse_separation_s", o.pulse_separation_s);
+  s.require(o.pulse_separation_s >= 0, "pulse_separation_s", "expected the laser pulse separation in s, > 0");
+  o.chunk_frames = s.integer("chunk_frames", o.chunk_frames);
+  s.require(o.chunk_frames >= 1 && o.chunk_frames <= 100000, "chunk_frames", "expected 1 to 100000 frames");
+  where_sync_ = s.where("sync");
+  o.sync = s.choice("sync", {"auto", "trigger", "delay"}, o.sync);
+  o.trigger_delay_s = s.number("trigger_delay_s", o.trigger_delay_s);
+  o.first_pulse = s.integer("first_pulse", o.first_pulse);
+  s.require(o.first_pulse >= 0, "first_pulse", "expected a pulse index >= 0");
+  o.median_threshold = s.number("median_threshold", o.median_threshold);
+  s.require(o.median_threshold > 0, "median_threshold", "expected a normalised residual > 0 (published: 2)");
+  o.median_epsilon_px = s.number("median_epsilon_px", o.median_epsilon_px);
+  s.require(o.median_epsilon_px >= 0, "median_epsilon_px", "expected >= 0 px (published: 0.1)");
+  o.median_epsilon_m_s = s.number("median_epsilon_m_s", o.median_epsilon_m_s);
+  s.require(o.median_epsilon_m_s >= 0, "median_epsilon_m_s", "expected >= 0 m/s (0: from median_epsilon_px)");
+  o.median_min_neighbours = s.integer("median_min_neighbours", o.median_min_neighbours);
+  s.require(o.median_min_neighbours >= 1 && o.median_min_neighbours <= 8, "median_min_neighbours",
+            "expected 1 to 8 of the 8 neighbours");
+  o.max_replaced_fraction = s.number("max_replaced_fraction", o.max_replaced_fraction);
+  s.require(o.max_replaced_fraction > 0 && o.max_replaced_fraction <= 1, "max_replaced_fraction",
+            "expected a fraction in (0, 1]");
+  o.gradient = s.choice("gradient", {"central", "least_squares"}, o.gradient);
+  o.pivot_x_m = s.number("pivot_x_m");
+  o.pivot_y_m = s.number("pivot_y_m");
+  o.chord_angle_offset_deg = s.number("chord_angle_offset_deg", o.chord_angle_offset_deg);
+  s.require(std::abs(o.chord_angle_offset_deg) <= 180, "chord_angle_offset_deg", "expected degrees in [-180, 180]");
+  where_airfoil_ = s.where("mask_airfoil");
+  o.mask_airfoil = s.boolean("mask_airfoil", o.mask_airfoil);
+  o.mask_offset_over_c = s.number("mask_offset_over_c", o.mask_offset_over_c);
+  s.require(o.mask_offset_over_c >= 0 && o.mask_offset_over_c < 0.5, "mask_offset_over_c",
+            "expected a wall band in chords, 0 to 0.5");
+  o.noise_factor = s.number("noise_factor", o.noise_factor);
+  s.require(o.noise_factor > 0, "noise_factor", "expected a multiple of the noise level, > 0");
+  o.min_swirl_1_s = s.number("min_swirl_1_s", o.min_swirl_1_s);
+  s.require(o.min_swirl_1_s >= 0, "min_swirl_1_s", "expected a swirl strength in 1/s, >= 0");
+  o.min_region_cells = s.integer("min_region_cells", o.min_region_cells);
+  s.require(o.min_region_cells >= 1, "min_region_cells", "expected at least 1 cell");
+  o.cluster_gap_cells = s.integer("cluster_gap_cells", o.cluster_gap_cells);
+  s.require(o.cluster_gap_cells >= 0 && o.cluster_gap_cells <= 20, "cluster_gap_cells", "expected 0 to 20 cells");
+  o.gamma2 = s.boolean("gamma2", o.gamma2);
+  o.gamma2_half_width = s.integer("gamma2_half_width", o.gamma2_half_width);
+  s.require(o.gamma2_half_width >= 1 && o.gamma2_half_width <= 20, "gamma2_half_width", "expected 1 to 20 cells");
+}
+
+std::vector<std::string> PivStage::inputs() const {
+  std::vector<std::string> in = {"run/chord_m", "run/U_inf_m_s", "run/pivot_x_over_c", "signals/time_s",
+                                 "motion/alpha_deg"};
+  if (options_.mask_airfoil) in.push_back("run/airfoil");
+  if (options_.sync == "trigger") in.insert(in.end(), {"daq/time_s", "daq/volts", "daq/roles/camera_trigger"});
+  return in;
+}
+
+std::vector<std::string> PivStage::optional_inputs() const {
+  if (options_.sync != "auto") return {};
+  return {"daq/time_s", "daq/volts", "daq/roles/camera_trigger"};
+}
+
+std::vector<std::string> PivStage::outputs() const {
+  return {"piv/frames",      "piv/detections",      "piv/grid_x_m",      "piv/grid_y_m",
+          "piv/sync_method", "piv/sync_offset_s",   "piv/sync_drift",    "piv/sync_residual_s",
+          "piv/missing_frames", "piv/flagged_frames", "piv/velocity_units"};
+}
+
+void PivStage::run(RunContext& context) {
+  const Options& o = options_;
+  RunStore& store = context.store();
+  const double chord = store.get<Scalar>("run/chord_m").value;
+  const double speed = store.get<Scalar>("run/U_inf_m_s").value;
+  if (!(speed > 0)) throw InputError("run/U_inf_m_s", "the PIV path normalises by U, which must be > 0");
+
+  auto source = piv::open_frame_source(o.file, o.text_units,
+                                       [&](const std::filesystem::path& p) { context.raw_input(p, "PIV frames"); });
+  const piv::Grid& grid = source->grid();
+  const std::vector<double>& camera = source->camera_time_s();
+  const std::size_t frames = source->frames();
+
+  // Velocity scale to m/s and the median test's epsilon in those units.
+  double to_m_s = 1.0;
+  if (source->units() == "px/frame") {
+    if (!(o.metres_per_pixel > 0 && o.pulse_separation_s > 0))
+      throw InputError(where_file_, source->source() + " is in px/frame: set metres_per_pixel and pulse_separation_s");
+    to_m_s = o.metres_per_pixel / o.pulse_separation_s;
+  }
+  piv::MedianTestOptions median{o.median_threshold, 0.0, static_cast<int>(o.median_min_neighbours)};
+  if (o.median_epsilon_m_s > 0) median.epsilon = o.median_epsilon_m_s;
+  else if (o.metres_per_pixel > 0 && o.pulse_separation_s > 0)
+    median.epsilon = o.median_epsilon_px * o.metres_per_pixel / o.pulse_separation_s;
+  else if (source->units() == "m/s" && o.median_epsilon_px > 0)
+    throw InputError(where_file_, source->source() + " is in m/s: the median test's epsilon (" +
+                                      std::to_string(o.median_epsilon_px) +
+                                      " px) needs metres_per_pixel and pulse_separation_s, or set median_epsilon_m_s");
+
+  // Frame times on the DAQ clock.
+  const bool use_trigger = o.sync == "trigger" || (o.sync == "auto" && store.contains("daq/roles/camera_trigger"));
+  piv::TimeSync sync;
+  if (use_trigger) {
+    const std::string& channel = store.get<Text>("daq/roles/camera_trigger").value;
+    const Matrix& volts = store.get<Matrix>("daq/volts");
+    const auto col = std::find(volts.columns.begin(), volts.columns.end(), channel);
+    if (col == volts.columns.end()) throw InputError("daq/roles/camera_trigger", "channel '" + channel + "' not in the DAQ record");
+    const Eigen::VectorXd line = volts.values.col(col - volts.columns.begin());
+    const auto edges = piv::rising_edges(store.get<Series>("daq/time_s").values, line);
+    sync = piv::sync_to_trigger(camera, edges, static_cast<std::size_t>(o.first_pulse),
+                                source->source() + " against camera trigger channel '" + channel + "'");
+  } else {
+    sync = piv::sync_constant_delay(camera, o.trigger_delay_s);
+  }
+
+  // Angle of attack at every frame; frames outside the DAQ record are flagged.
+  const Eigen::VectorXd& signal_t = store.get<Series>("signals/time_s").values;
+  const Eigen::VectorXd& alpha_series = store.get<Series>("motion/alpha_deg").values;
+  std::vector<double> alpha(frames);
+  std::size_t inside = 0;
+  for (std::size_t f = 0; f < frames; ++f) {
+    alpha[f] = interpolate(signal_t, alpha_series, sync.daq_time_s[f]);
+    inside += std::isfinite(alpha[f]);
+  }
+  if (inside == 0)
+    throw InputError(where_file_, "no PIV frame time (" + std::to_string(sync.daq_time_s.front()) + " to " +
+                                      std::to_string(sync.daq_time_s.back()) + " s on the DAQ clock) lies inside the DAQ record (" +
+                                      std::to_string(signal_t[0]) + " to " + std::to_string(signal_t[signal_t.size() - 1]) +
+                                      " s); check the time sync");
+
+  piv::AirfoilPlacement placement{chord, store.get<Scalar>("run/pivot_x_over_c").value, o.pivot_x_m, o.pivot_y_m,
+                                  o.chord_angle_offset_deg};
+  theory::Naca4Section section;
+  if (o.mask_airfoil) section = section_of(store.get<Text>("run/airfoil").value, where_airfoil_);
+  const auto scheme = o.gradient == "central" ? piv::GradientScheme::kCentral : piv::GradientScheme::kLeastSquares;
+  piv::DetectionOptions detect;
+  detect.noise_factor = o.noise_factor;
+  detect.min_threshold = o.min_swirl_1_s;
+  detect.min_cells = static_cast<int>(o.min_region_cells);
+  detect.cluster_gap_cells = static_cast<int>(o.cluster_gap_cells);
+
+  std::vector<FrameResult> results(frames);
+  std::vector<piv::Frame> chunk;
+  const auto chunk_size = static_cast<std::size_t>(o.chunk_frames);
+  const int threads = std::max(1, context.threads());
+  context.progress().begin("piv frames", frames);
+  for (std::size_t first = 0; first < frames; first += chunk_size) {
+    const std::size_t count = std::min(chunk_size, frames - first);
+    source->read(first, count, chunk);
+    std::exception_ptr failure;
+#pragma omp parallel for num_threads(threads) schedule(dynamic)
+    for (std::size_t k = 0; k < count; ++k) {
+      try {
+        piv::Frame& frame = chunk[k];
+        FrameResult& r = results[frame.index];
+        if (!std::isfinite(alpha[frame.index])) {
+          r.reason = "outside the DAQ record";
+          continue;
+        }
+        for (std::size_t p = 0; p < frame.u.size(); ++p) frame.u[p] *= static_cast<float>(to_m_s), frame.v[p] *= static_cast<float>(to_m_s);
+        std::vector<std::uint8_t> mask;
+        if (o.mask_airfoil) mask = piv::airfoil_mask(grid, placement, section, alpha[frame.index], o.mask_offset_over_c);
+        std::vector<std::uint8_t> replaced;
+        piv::MedianTestOptions m = median;
+        r.counts = piv::validate_frame(grid, frame, mask, m, replaced);
+        if (r.counts.missing == r.counts.vectors) {
+          r.reason = "no valid vectors";
+          continue;
+        }
+        if (static_cast<double>(r.counts.replaced + r.counts.unrecoverable) >
+            o.max_replaced_fraction * static_cast<double>(r.counts.vectors)) {
+          r.reason = "too many replaced vectors";
+          continue;
+        }
+        const piv::SwirlField field = piv::swirl_field(grid, frame, scheme);
+        r.noise = piv::noise_swirl(field);
+        r.detections = piv::detect_vortices(grid, field, replaced, detect, &r.threshold);
+        if (o.gamma2)
+          for (const auto& d : r.detections)
+            r.gamma2.push_back(piv::gamma2_at(grid, frame, d.centre_j, d.centre_i, static_cast<int>(o.gamma2_half_width)));
+      } catch (...) {
+#pragma omp critical(piv_failure)
+        if (!failure) failure = std::current_exception();
+      }
+    }
+    if (failure) std::rethrow_exception(failure);
+    context.progress().advance(count);
+  }
+
+  // Per-frame table.
+  std::vector<std::int64_t> frame_no, pulse, vectors, missing, outliers, replaced, unrecoverable, ndet;
+  std::vector<double> t_cam, t_daq, alpha_col, noise, threshold;
+  std::vector<std::string> status, reason;
+  // Per-detection table.
+  std::vector<std::int64_t> d_frame, d_sign, d_cells, d_replaced, d_regions;
+  std::vector<double> d_t, d_xm, d_ym, d_xc, d_yc, d_circ, d_loose, d_strict, d_sens, d_peak, d_radius, d_gamma2;
+  std::int64_t flagged = 0;
+  const double circulation_scale = 1.0 / (speed * chord), swirl_scale = chord / speed;
+  for (std::size_t f = 0; f < frames; ++f) {
+    const FrameResult& r = results[f];
+    frame_no.push_back(static_cast<std::int64_t>(f));
+    t_cam.push_back(camera[f]);
+    t_daq.push_back(sync.daq_time_s[f]);
+    pulse.push_back(sync.pulse[f]);
+    alpha_col.push_back(alpha[f]);
+    vectors.push_back(static_cast<std::int64_t>(r.counts.vectors));
+    missing.push_back(static_cast<std::int64_t>(r.counts.missing));
+    outliers.push_back(static_cast<std::int64_t>(r.counts.outliers));
+    replaced.push_back(static_cast<std::int64_t>(r.counts.replaced));
+    unrecoverable.push_back(static_cast<std::int64_t>(r.counts.unrecoverable));
+    noise.push_back(r.noise);
+    threshold.push_back(r.threshold);
+    ndet.push_back(static_cast<std::int64_t>(r.detections.size()));
+    std::string why = r.reason;
+    if (why.empty() && use_trigger && sync.pulse[f] < 0) why = "no trigger pulse (time from the clock fit)";
+    status.push_back(r.reason.empty() ? (why.empty() ? "ok" : "suspect") : "flagged");
+    flagged += !r.reason.empty();
+    reason.push_back(why);
+    for (std::size_t k = 0; k < r.detections.size(); ++k) {
+      const piv::Detection& d = r.detections[k];
+      const piv::AirfoilPoint a = piv::to_airfoil_frame(placement, alpha[f], d.x_m, d.y_m);
+      d_frame.push_back(static_cast<std::int64_t>(f));
+      d_t.push_back(sync.daq_time_s[f]);
+      d_sign.push_back(d.sign);
+      d_xm.push_back(d.x_m);
+      d_ym.push_back(d.y_m);
+      d_xc.push_back(a.x_over_c);
+      d_yc.push_back(a.y_over_c);
+      d_circ.push_back(d.circulation * circulation_scale);
+      d_loose.push_back(d.circulation_loose * circulation_scale);
+      d_strict.push_back(d.circulation_strict * circulation_scale);
+      d_sens.push_back(std::abs(d.circulation_loose - d.circulation_strict) / (2.0 * std::abs(d.circulation)));
+      d_peak.push_back(d.peak_swirl * swirl_scale);
+      d_radius.push_back(std::sqrt(d.area_m2 / std::numbers::pi) / chord);
+      d_cells.push_back(static_cast<std::int64_t>(d.cells));
+      d_replaced.push_back(static_cast<std::int64_t>(d.replaced_cells));
+      d_regions.push_back(static_cast<std::int64_t>(d.regions));
+      d_gamma2.push_back(o.gamma2 ? r.gamma2[k] : kNaN);
+    }
+  }
+  Table ft;
+  ft.add({"frame", "1", frame_no}).add({"camera_time_s", "s", t_cam}).add({"t_s", "s", t_daq})
+      .add({"trigger_pulse", "1", pulse}).add({"alpha_deg", "deg", alpha_col}).add({"vectors", "1", vectors})
+      .add({"missing", "1", missing}).add({"outliers", "1", outliers}).add({"replaced", "1", replaced})
+      .add({"unrecoverable", "1", unrecoverable}).add({"noise_swirl_1_s", "1/s", noise})
+      .add({"threshold_1_s", "1/s", threshold}).add({"detections", "1", ndet}).add({"status", "", status})
+      .add({"reason", "", reason});
+  store.put("piv/frames", std::move(ft),
+            {{"note", std::string("t_s on the DAQ clock; flagged frames were not searched for vortices")}});
+  Table dt;
+  dt.add({"frame", "1", d_frame}).add({"t_s", "s", d_t}).add({"sign", "1", d_sign}).add({"x_m", "m", d_xm})
+      .add({"y_m", "m", d_ym}).add({"x_over_c", "1", d_xc}).add({"y_over_c", "1", d_yc})
+      .add({"circulation", "1", d_circ}).add({"circulation_loose", "1", d_loose})
+      .add({"circulation_strict", "1", d_strict}).add({"circulation_sensitivity", "1", d_sens})
+      .add({"peak_swirl", "1", d_peak}).add({"radius_over_c", "1", d_radius}).add({"cells", "1", d_cells})
+      .add({"replaced_cells", "1", d_replaced}).add({"regions", "1", d_regions}).add({"gamma2", "1", d_gamma2});
+  store.put("piv/detections", std::move(dt),
+            {{"normalised_by", std::string("circulation by U_inf c, peak_swirl by U_inf/c, radius by c")},
+             {"circulation_sign", std::string("counter-clockwise positive, lab frame x downstream y up; "
+                                              "the airfoil frame keeps the sign")},
+             {"circulation_boundary", std::string("region where lambda_ci > threshold; loose/strict at 0.5x/2x")},
+             {"gradient", o.gradient}});
+  store.put("piv/grid_x_m", Series{Eigen::Map<const Eigen::VectorXd>(grid.x_m.data(), static_cast<Eigen::Index>(grid.nx())), "m"});
+  store.put("piv/grid_y_m", Series{Eigen::Map<const Eigen::VectorXd>(grid.y_m.data(), static_cast<Eigen::Index>(grid.ny())), "m"});
+  store.put("piv/sync_method", Text{sync.method});
+  store.put("piv/sync_offset_s", Scalar{sync.offset_s, "s"});
+  store.put("piv/sync_drift", Scalar{sync.drift, "1"});
+  store.put("piv/sync_residual_s", Scalar{sync.residual_s, "s"});
+  store.put("piv/missing_frames", Scalar{static_cast<double>(sync.missing_frames), "1"});
+  store.put("piv/flagged_frames", Scalar{static_cast<double>(flagged), "1"});
+  store.put("piv/velocity_units", Text{source->units()});
+}
+
+}  // namespace stallscope

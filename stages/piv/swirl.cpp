@@ -1,0 +1,115 @@
+#include "stages/piv/swirl.hpp"
+
+#include <Eigen/Dense>
+#include <cmath>
+#include <limits>
+
+namespace stallscope::piv {
+
+namespace {
+
+constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+
+// d/ds of f at the middle of three points s0 < s1 < s2 (or decreasing), the
+// Lagrange three-point formula: second order on uneven spacing.
+double three_point(double fm, double f0, double fp, double sm, double s0, double sp) {
+  const double h1 = s0 - sm, h2 = sp - s0;
+  return (h1 * h1 * fp - h2 * h2 * fm + (h2 * h2 - h1 * h1) * f0) / (h1 * h2 * (h1 + h2));
+}
+
+// Derivative along one grid line at index k, from the valid points around it.
+template <typename Value, typename Ok>
+double line_derivative(std::size_t k, std::size_t n, const std::vector<double>& s, Value value, Ok ok) {
+  const bool has_m = k > 0 && ok(k - 1), has_p = k + 1 < n && ok(k + 1);
+  if (has_m && has_p) return three_point(value(k - 1), value(k), value(k + 1), s[k - 1], s[k], s[k + 1]);
+  if (has_p) return (value(k + 1) - value(k)) / (s[k + 1] - s[k]);
+  if (has_m) return (value(k) - value(k - 1)) / (s[k] - s[k - 1]);
+  return kNaN;
+}
+
+}  // namespace
+
+double swirl_strength(double ux, double uy, double vx, double vy) {
+  const double half_trace = 0.5 * (ux + vy);
+  const double disc = (ux * vy - uy * vx) - half_trace * half_trace;
+  return disc > 0 ? std::sqrt(disc) : 0.0;
+}
+
+SwirlField swirl_field(const Grid& grid, const Frame& f, GradientScheme scheme) {
+  const std::size_t nx = grid.nx(), ny = grid.ny(), n = grid.size();
+  SwirlField out;
+  out.vorticity.assign(n, kNaN);
+  out.swirl.assign(n, kNaN);
+  auto valid = [&](std::size_t p) { return f.valid[p] != 0; };
+  for (std::size_t j = 0; j < ny; ++j)
+    for (std::size_t i = 0; i < nx; ++i) {
+      const std::size_t p = j * nx + i;
+      if (!valid(p)) continue;
+      double ux = kNaN, uy = kNaN, vx = kNaN, vy = kNaN;
+      if (scheme == GradientScheme::kCentral) {
+        const std::size_t row = j * nx;
+        auto ok_x = [&](std::size_t k) { return valid(row + k); };
+        auto ok_y = [&](std::size_t k) { return valid(k * nx + i); };
+        ux = line_derivative(i, nx, grid.x_m, [&](std::size_t k) { return double(f.u[row + k]); }, ok_x);
+        vx = line_derivative(i, nx, grid.x_m, [&](std::size_t k) { return double(f.v[row + k]); }, ok_x);
+        uy = line_derivative(j, ny, grid.y_m, [&](std::size_t k) { return double(f.u[k * nx + i]); }, ok_y);
+        vy = line_derivative(j, ny, grid.y_m, [&](std::size_t k) { return double(f.v[k * nx + i]); }, ok_y);
+      } else {
+        // u ~ a + b dx + c dy over the valid 3x3 neighbourhood (normal equations).
+        Eigen::Matrix3d m = Eigen::Matrix3d::Zero();
+        Eigen::Vector3d ru = Eigen::Vector3d::Zero(), rv = Eigen::Vector3d::Zero();
+        int count = 0;
+        for (std::size_t jj = j ? j - 1 : 0; jj <= std::min(j + 1, ny - 1); ++jj)
+          for (std::size_t ii = i ? i - 1 : 0; ii <= std::min(i + 1, nx - 1); ++ii) {
+            const std::size_t q = jj * nx + ii;
+            if (!valid(q)) continue;
+            const Eigen::Vector3d row(1.0, grid.x_m[ii] - grid.x_m[i], grid.y_m[jj] - grid.y_m[j]);
+            m += row * row.transpose();
+            ru += row * f.u[q];
+            rv += row * f.v[q];
+            ++count;
+          }
+        if (count >= 4) {
+          Eigen::LDLT<Eigen::Matrix3d> ldlt(m);
+          if (ldlt.info() == Eigen::Success && std::abs(m.determinant()) > 1e-12 * std::pow(m.trace(), 3)) {
+            const Eigen::Vector3d gu = ldlt.solve(ru), gv = ldlt.solve(rv);
+            ux = gu[1], uy = gu[2], vx = gv[1], vy = gv[2];
+          }
+        }
+      }
+      if (!std::isfinite(ux) || !std::isfinite(uy) || !std::isfinite(vx) || !std::isfinite(vy)) continue;
+      out.vorticity[p] = vx - uy;
+      out.swirl[p] = swirl_strength(ux, uy, vx, vy);
+    }
+  return out;
+}
+
+double gamma2_at(const Grid& grid, const Frame& f, std::size_t j, std::size_t i, int half_width) {
+  const std::size_t nx = grid.nx(), ny = grid.ny();
+  const std::size_t h = static_cast<std::size_t>(half_width);
+  const std::size_t j0 = j > h ? j - h : 0, j1 = std::min(j + h, ny - 1);
+  const std::size_t i0 = i > h ? i - h : 0, i1 = std::min(i + h, nx - 1);
+  double mu = 0, mv = 0;
+  int count = 0;
+  for (std::size_t jj = j0; jj <= j1; ++jj)
+    for (std::size_t ii = i0; ii <= i1; ++ii)
+      if (f.valid[jj * nx + ii]) mu += f.u[jj * nx + ii], mv += f.v[jj * nx + ii], ++count;
+  if (count < 4) return kNaN;
+  mu /= count;
+  mv /= count;
+  double sum = 0;
+  int terms = 0;
+  for (std::size_t jj = j0; jj <= j1; ++jj)
+    for (std::size_t ii = i0; ii <= i1; ++ii) {
+      const std::size_t q = jj * nx + ii;
+      if ((jj == j && ii == i) || !f.valid[q]) continue;
+      const double px = grid.x_m[ii] - grid.x_m[i], py = grid.y_m[jj] - grid.y_m[j];
+      const double du = f.u[q] - mu, dv = f.v[q] - mv;
+      const double norm = std::hypot(px, py) * std::hypot(du, dv);
+      ++terms;
+      if (norm > 0) sum += (px * dv - py * du) / norm;
+    }
+  return terms >= 3 ? sum / terms : kNaN;
+}
+
+}  // namespace stallscope::piv

@@ -1,0 +1,99 @@
+#include "stages/piv/validation.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <stdexcept>
+
+namespace stallscope::piv {
+
+double median_of(std::vector<double> values) {
+  if (values.empty()) throw std::logic_error("median of no values");
+  const std::size_t n = values.size(), mid = n / 2;
+  std::nth_element(values.begin(), values.begin() + static_cast<std::ptrdiff_t>(mid), values.end());
+  const double upper = values[mid];
+  if (n % 2) return upper;
+  const double lower = *std::max_element(values.begin(), values.begin() + static_cast<std::ptrdiff_t>(mid));
+  return 0.5 * (lower + upper);
+}
+
+double normalised_median_residual(double value, const std::vector<double>& neighbours, double epsilon) {
+  const double um = median_of(neighbours);
+  std::vector<double> r(neighbours.size());
+  for (std::size_t k = 0; k < neighbours.size(); ++k) r[k] = std::abs(neighbours[k] - um);
+  return std::abs(value - um) / (median_of(std::move(r)) + epsilon);
+}
+
+ValidationCounts validate_frame(const Grid& grid, Frame& f, const std::vector<std::uint8_t>& masked,
+                                const MedianTestOptions& o, std::vector<std::uint8_t>& replaced) {
+  const std::size_t nx = grid.nx(), ny = grid.ny(), n = grid.size();
+  if (f.u.size() != n || f.v.size() != n || f.valid.size() != n)
+    throw std::logic_error("PIV frame does not match its grid");
+  ValidationCounts c;
+  std::vector<std::uint8_t> usable(n, 0);
+  for (std::size_t p = 0; p < n; ++p) {
+    const bool out = !masked.empty() && masked[p];
+    if (out) continue;
+    ++c.vectors;
+    usable[p] = f.valid[p] && std::isfinite(f.u[p]) && std::isfinite(f.v[p]);
+    if (!usable[p]) ++c.missing;
+  }
+  // Neighbours of p that satisfy `keep`, one component at a time.
+  std::vector<double> nu, nv;
+  auto gather = [&](std::size_t j, std::size_t i, const std::vector<std::uint8_t>& keep) {
+    nu.clear();
+    nv.clear();
+    for (std::size_t jj = j ? j - 1 : 0; jj <= std::min(j + 1, ny - 1); ++jj)
+      for (std::size_t ii = i ? i - 1 : 0; ii <= std::min(i + 1, nx - 1); ++ii) {
+        const std::size_t q = jj * nx + ii;
+        if ((jj != j || ii != i) && keep[q]) nu.push_back(f.u[q]), nv.push_back(f.v[q]);
+      }
+  };
+  // The test runs on the field as measured; replacement comes after, so one
+  // outlier does not bias the test of its neighbours' neighbours.
+  std::vector<std::uint8_t> outlier(n, 0);
+  for (std::size_t j = 0; j < ny; ++j)
+    for (std::size_t i = 0; i < nx; ++i) {
+      const std::size_t p = j * nx + i;
+      if (!usable[p]) continue;
+      gather(j, i, usable);
+      if (static_cast<int>(nu.size()) < o.min_neighbours) continue;
+      if (normalised_median_residual(f.u[p], nu, o.epsilon) > o.threshold ||
+          normalised_median_residual(f.v[p], nv, o.epsilon) > o.threshold)
+        outlier[p] = 1, ++c.outliers;
+    }
+  std::vector<std::uint8_t> good(n);
+  for (std::size_t p = 0; p < n; ++p) good[p] = usable[p] && !outlier[p];
+  replaced.assign(n, 0);
+  std::vector<float> u = f.u, v = f.v;
+  for (std::size_t j = 0; j < ny; ++j)
+    for (std::size_t i = 0; i < nx; ++i) {
+      const std::size_t p = j * nx + i;
+      const bool out = !masked.empty() && masked[p];
+      if (out) {
+        u[p] = v[p] = std::nanf("");
+        f.valid[p] = 0;
+        continue;
+      }
+      if (good[p]) {
+        f.valid[p] = 1;
+        continue;
+      }
+      gather(j, i, good);
+      if (static_cast<int>(nu.size()) < o.min_neighbours) {
+        u[p] = v[p] = std::nanf("");
+        f.valid[p] = 0;
+        ++c.unrecoverable;
+        continue;
+      }
+      u[p] = static_cast<float>(median_of(nu));
+      v[p] = static_cast<float>(median_of(nv));
+      f.valid[p] = 1;
+      replaced[p] = 1;
+      ++c.replaced;
+    }
+  f.u = std::move(u);
+  f.v = std::move(v);
+  return c;
+}
+
+}  // namespace stallscope::piv

@@ -1,0 +1,38 @@
+#pragma once
+// Spurious-vector detection by the normalised median test (Westerweel &
+// Scarano 2005, Exp. Fluids 39:1096-1100): r0* = |U0 - Um| / (rm + eps) over
+// the valid 3x3 neighbours; an outlier in either component is replaced by the
+// local median of its valid neighbours.
+#include <cstdint>
+#include <vector>
+
+#include "stages/piv/frame_source.hpp"
+
+namespace stallscope::piv {
+
+struct MedianTestOptions {
+  double threshold = 2.0;   // published default
+  double epsilon = 0.1;     // in the velocity's units (0.1 px/frame published)
+  int min_neighbours = 3;   // fewer valid neighbours: not tested / not replaceable (common practice)
+};
+
+// The median of a small set; the mean of the middle two for an even count.
+double median_of(std::vector<double> values);
+// r0* of one value against its neighbours (at least one).
+double normalised_median_residual(double value, const std::vector<double>& neighbours, double epsilon);
+
+struct ValidationCounts {
+  std::size_t vectors = 0;        // points in the flow (not masked)
+  std::size_t missing = 0;        // not valid or not finite in the file
+  std::size_t outliers = 0;       // failed the median test
+  std::size_t replaced = 0;       // missing or outliers filled by the local median
+  std::size_t unrecoverable = 0;  // left empty: too few valid neighbours
+};
+
+// Tests and repairs a frame in place. `masked` (size of the grid, may be
+// empty) marks points outside the flow (inside the airfoil): they are emptied
+// and never used. `replaced` (out, resized) marks vectors that were filled.
+ValidationCounts validate_frame(const Grid& grid, Frame& frame, const std::vector<std::uint8_t>& masked,
+                                const MedianTestOptions& options, std::vector<std::uint8_t>& replaced);
+
+}  // namespace stallscope::piv

@@ -1,0 +1,44 @@
+#pragma once
+// [vortex]: tracks the detections of [piv] across frames and reads the
+// dynamic-stall vortex's story from them, cycle by cycle: the leading-edge
+// vortex (its sign and a birth near the leading edge), when it was first
+// seen, when it detached (the end of its circulation growth, or the eruption
+// of the opposite-sign secondary vortex beneath it, whichever is first), when
+// it passed the trailing edge, and how fast it convected.
+#include <string>
+
+#include "pipeline/stage.hpp"
+
+namespace stallscope {
+
+class VortexStage final : public Stage {
+ public:
+  static constexpr std::string_view kName = "vortex";
+  static constexpr std::string_view kSummary =
+      "track vortices; leading-edge vortex detection, detachment, trailing-edge passage, convection speed per cycle";
+
+  struct Options {
+    double gate_over_c = 0.1;                 // search radius about the predicted position
+    std::int64_t max_gap_frames = 2;          // unmatched frames before a track ends
+    std::int64_t min_track_frames = 3;        // shorter tracks are noise
+    std::int64_t le_sign = -1;                // LE vortex rotation: clockwise with the flow left to right, suction side up
+    double le_birth_max_x_over_c = 0.3;       // born near the leading edge
+    double secondary_distance_over_c = 0.15;  // an opposite-sign birth this close beneath the LE vortex is an eruption
+    std::vector<double> convection_window_x_over_c = {0.2, 1.0};  // positions fitted for the convection speed
+    double te_x_over_c = 1.0;
+    std::vector<double> plausible_speed = {0.1, 0.7};  // U; outside: suspect (McCroskey 1981, a bound only)
+  };
+
+  std::string_view name() const override { return kName; }
+  std::string_view summary() const override { return kSummary; }
+  void configure(ConfigSection& section) override;
+  std::vector<std::string> inputs() const override;
+  std::vector<std::string> optional_inputs() const override;
+  std::vector<std::string> outputs() const override;
+  void run(RunContext& context) override;
+
+ private:
+  Options options_;
+};
+
+}  // namespace stallscope

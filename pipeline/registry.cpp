@@ -8,6 +8,11 @@
 #include "stages/run.hpp"
 #include "stages/tubing.hpp"
 #include "stages/wall.hpp"
+#include "stages/motion.hpp"
+#include "stages/cycles.hpp"
+#include "stages/phase.hpp"
+#include "stages/damping.hpp"
+#include "stages/static_polar.hpp"
 #include "stages/piv/piv_stage.hpp"
 #include "stages/piv/vortex_stage.hpp"
 

@@ -33,6 +33,15 @@ Eigen::VectorXd rolling_range(const Eigen::VectorXd& y, Eigen::Index h) {
 
 Plateau summarise(const Eigen::VectorXd& t, const Eigen::VectorXd& y, Eigen::Index first, Eigen::Index last,
                   double settle) {
+  // The window test lets a few samples of the neighbouring moves in; trim the
+  // ends that sit more than 3 robust standard deviations off the median.
+  std::vector<double> v0(y.data() + first, y.data() + last);
+  const double med = percentile(v0, 0.5);
+  for (double& x : v0) x = std::abs(x - med);
+  const double sigma = 1.4826 * percentile(v0, 0.5);
+  const double band = std::max(3 * sigma, 1e-12 * (1 + std::abs(med)));
+  while (last - first > 2 && std::abs(y[first] - med) > band) ++first;
+  while (last - first > 2 && std::abs(y[last - 1] - med) > band) --last;
   Plateau p;
   p.t_start = t[first];
   p.t_end = t[last - 1];

@@ -165,6 +165,8 @@ SinusoidFit fit_sinusoid(const Eigen::VectorXd& t, const Eigen::VectorXd& y, int
   lm.parameters.ftol = 1e-14;
   lm.minimize(x);
 
+  if (std::abs(x[1]) / kTwoPi * duration < 1.0)
+    throw std::invalid_argument("sinusoid fit: the record holds less than one period");
   SinusoidFit fit;
   fit.iterations = static_cast<int>(lm.iter);
   const double omega = x[1], a1 = x[2], b1 = x[3];

@@ -1,0 +1,448 @@
+#include "stages/motion.hpp"
+
+#include <algorithm>
+#include <cmath>
+#include <cstdio>
+#include <numbers>
+#include <optional>
+#include <stdexcept>
+
+#include "pipeline/errors.hpp"
+#include "stages/numerics/plateaus.hpp"
+#include "stages/numerics/sinusoid_fit.hpp"
+#include "stages/numerics/spectrum.hpp"
+#include "stages/numerics/statistics.hpp"
+
+namespace stallscope {
+
+namespace {
+
+constexpr double kPi = std::numbers::pi;
+constexpr double kDegToRad = kPi / 180.0;
+constexpr const char* kAngleKey = "signals/alpha_deg";
+constexpr const char* kPhaseOrigin = "cycle start at the minimum angle of the fitted fundamental; 180 deg at its maximum";
+
+std::string num(double v, int digits = 4) {
+  char buf[64];
+  std::snprintf(buf, sizeof buf, "%.*g", digits, v);
+  return buf;
+}
+
+double attribute_number(const Attributes& a, const std::string& name) {
+  auto it = a.find(name);
+  if (it == a.end()) throw std::logic_error("motion/fit has no attribute " + name);
+  if (const double* d = std::get_if<double>(&it->second)) return *d;
+  if (const std::int64_t* i = std::get_if<std::int64_t>(&it->second)) return static_cast<double>(*i);
+  throw std::logic_error("motion/fit attribute " + name + " is not a number");
+}
+
+// The outcome of trying one kind of motion: whether it fits, and why not.
+struct Trial {
+  bool fits = false;
+  std::string why;
+};
+
+struct Record {
+  const Eigen::VectorXd& t;
+  const Eigen::VectorXd& alpha;
+  double chord = 0, speed = 0;
+};
+
+// --- sine ------------------------------------------------------------------
+
+std::optional<numerics::SinusoidFit> try_sine(const Record& r, const MotionStage::Options& o, Trial& trial) {
+  try {
+    numerics::SinusoidFit fit = numerics::fit_sinusoid(r.t, r.alpha, static_cast<int>(o.harmonics));
+    const double misfit = fit.rms_residual_fundamental / fit.amplitude;
+    trial.fits = misfit <= o.max_residual_fraction;
+    trial.why = "a sine at " + num(fit.frequency_hz) + " Hz leaves an rms misfit of " + num(100 * misfit, 3) +
+                " % of its amplitude (max_residual_fraction = " + num(o.max_residual_fraction) + ")";
+    return fit;
+  } catch (const std::invalid_argument& e) {
+    trial.why = std::string("no sine fits (") + e.what() + ")";
+    return std::nullopt;
+  }
+}
+
+void write_sine(RunStore& s, const Record& r, const numerics::SinusoidFit& fit) {
+  const double f = fit.frequency_hz, omega = 2 * kPi * f;
+  const Eigen::Index n = r.t.size();
+  // Cycle 0 starts at the first minimum of the fundamental (theta = -pi/2) in the record.
+  const double theta0 = fit.theta(r.t[0]);
+  double lead = std::fmod(-0.5 * kPi - theta0, 2 * kPi);
+  if (lead < 0) lead += 2 * kPi;
+  MotionFit m;
+  m.freq_hz = f;
+  m.alpha_mean_deg = fit.mean;
+  m.alpha_amp_deg = fit.amplitude;
+  m.sine_phase_rad = fit.phase_rad;
+  m.cycle_origin_s = r.t[0] + lead / omega;
+  m.cycles = static_cast<std::int64_t>(std::floor((r.t[n - 1] - m.cycle_origin_s) * f + 1e-9));
+  for (const auto& h : fit.harmonics) {
+    m.harmonic_sin_deg.push_back(h.real());
+    m.harmonic_cos_deg.push_back(h.imag());
+  }
+
+  Eigen::VectorXd alpha(n), rate(n), phase(n), cycle(n);
+  for (Eigen::Index i = 0; i < n; ++i) {
+    alpha[i] = m.alpha_deg(r.t[i]);
+    rate[i] = m.alpha_rate_deg_s(r.t[i]);
+    phase[i] = m.phase_deg(r.t[i]);
+    cycle[i] = static_cast<double>(m.cycle(r.t[i]));
+  }
+  const double k = kPi * f * r.chord / r.speed;
+
+  // The fit itself: one row per harmonic, the summary as attributes.
+  std::vector<std::int64_t> order{1};
+  std::vector<double> amplitude{fit.amplitude}, rel_phase{0.0}, a{fit.amplitude}, b{0.0};
+  for (std::size_t j = 0; j < fit.harmonics.size(); ++j) {
+    order.push_back(static_cast<std::int64_t>(j + 2));
+    amplitude.push_back(std::abs(fit.harmonics[j]));
+    rel_phase.push_back(std::arg(fit.harmonics[j]) / kDegToRad);
+    a.push_back(fit.harmonics[j].real());
+    b.push_back(fit.harmonics[j].imag());
+  }
+  Table table;
+  table.add({"harmonic", "1", order})
+      .add({"amplitude_deg", "deg", amplitude})
+      .add({"phase_deg", "deg", rel_phase})
+      .add({"sin_deg", "deg", a})
+      .add({"cos_deg", "deg", b});
+  Attributes attrs{
+      {"model", std::string("alpha = alpha_mean + alpha_amp sin(theta) + sum over h >= 2 of sin_deg sin(h theta) + "
+                            "cos_deg cos(h theta), theta = 2 pi freq t + sine_phase_rad")},
+      {"phase_origin", std::string(kPhaseOrigin)},
+      {"freq_hz", f},
+      {"freq_error_hz", fit.frequency_error_hz},
+      {"k", k},
+      {"alpha_mean_deg", fit.mean},
+      {"alpha_mean_error_deg", fit.mean_error},
+      {"alpha_amp_deg", fit.amplitude},
+      {"alpha_amp_error_deg", fit.amplitude_error},
+      {"sine_phase_rad", fit.phase_rad},
+      {"sine_phase_error_deg", fit.phase_error_rad / kDegToRad},
+      {"cycle_origin_s", m.cycle_origin_s},
+      {"cycles", m.cycles},
+      {"residual_deg", fit.rms_residual},
+      {"residual_fundamental_deg", fit.rms_residual_fundamental},
+      {"harmonic_distortion", fit.distortion},
+      {"max_pitch_rate_deg_s", fit.amplitude * omega},
+      {"max_pitch_rate_nondim", fit.amplitude * kDegToRad * k},  // r = alpha_dot c / (2U) at its peak
+  };
+  s.put("motion/fit", std::move(table), std::move(attrs));
+  s.put("motion/alpha_deg", Series{std::move(alpha), "deg"}, {{"source", std::string("fitted motion")}});
+  s.put("motion/alpha_rate_deg_s", Series{std::move(rate), "deg/s"}, {{"source", std::string("fitted motion")}});
+  s.put("motion/phase_deg", Series{std::move(phase), "deg"}, {{"phase_origin", std::string(kPhaseOrigin)}});
+  s.put("motion/cycle", Series{std::move(cycle), "1"},
+        {{"note", std::string("cycle 0 is the first complete cycle; -1 outside complete cycles")}});
+  s.put("run/motion", Text{"sine"});
+  s.put("run/alpha_mean_deg", Scalar{fit.mean, "deg"});
+  s.put("run/alpha_amp_deg", Scalar{fit.amplitude, "deg"});
+  s.put("run/freq_hz", Scalar{f, "Hz"});
+  s.put("run/k", Scalar{k, "1"});
+}
+
+// --- ramp ------------------------------------------------------------------
+
+std::optional<numerics::RampFit> try_ramp(const Record& r, const MotionStage::Options& o, Trial& trial) {
+  try {
+    numerics::RampFit ramp = numerics::fit_ramp(r.t, r.alpha);
+    const double misfit = ramp.rms_residual / std::abs(ramp.level_end - ramp.level_start);
+    trial.fits = misfit <= o.max_residual_fraction && ramp.t_start >= r.t[0] && ramp.t_end <= r.t[r.t.size() - 1];
+    trial.why = "a ramp from " + num(ramp.level_start) + " to " + num(ramp.level_end) + " deg leaves an rms misfit of " +
+                num(100 * misfit, 3) + " % of its excursion";
+    return ramp;
+  } catch (const std::invalid_argument& e) {
+    trial.why = std::string("no ramp fits (") + e.what() + ")";
+    return std::nullopt;
+  }
+}
+
+void write_ramp(RunStore& s, const Record& r, const numerics::RampFit& ramp) {
+  const Eigen::Index n = r.t.size();
+  Eigen::VectorXd alpha(n), rate(n);
+  for (Eigen::Index i = 0; i < n; ++i) {
+    alpha[i] = ramp.value(r.t[i]);
+    rate[i] = ramp.derivative(r.t[i]);
+  }
+  s.put("motion/alpha_deg", Series{std::move(alpha), "deg"}, {{"source", std::string("fitted ramp")}});
+  s.put("motion/alpha_rate_deg_s", Series{std::move(rate), "deg/s"}, {{"source", std::string("fitted ramp")}});
+  s.put("motion/ramp_start_s", Scalar{ramp.t_start, "s"});
+  s.put("motion/ramp_end_s", Scalar{ramp.t_end, "s"});
+  s.put("motion/ramp_alpha_start_deg", Scalar{ramp.level_start, "deg"});
+  s.put("motion/ramp_alpha_end_deg", Scalar{ramp.level_end, "deg"});
+  s.put("motion/ramp_rate_deg_s", Scalar{ramp.rate, "deg/s"});
+  // Non-dimensional pitch rate r = alpha_dot c / (2U), alpha_dot in rad/s.
+  s.put("motion/ramp_rate_nondim", Scalar{ramp.rate * kDegToRad * r.chord / (2 * r.speed), "1"});
+  s.put("motion/ramp_residual_deg", Scalar{ramp.rms_residual, "deg"});
+  s.put("run/motion", Text{"ramp"});
+  s.put("run/alpha_mean_deg", Scalar{0.5 * (ramp.level_start + ramp.level_end), "deg"});
+  s.put("run/alpha_amp_deg", Scalar{0.5 * std::abs(ramp.level_end - ramp.level_start), "deg"});
+  s.put("run/freq_hz", Scalar{0.0, "Hz"});
+  s.put("run/k", Scalar{0.0, "1"});
+}
+
+// --- static angle and staircase ----------------------------------------------
+
+// The angle stays within +- tolerance (1st to 99th percentile) over the whole record.
+Trial try_static(const Record& r, const MotionStage::Options& o) {
+  std::vector<double> v;
+  for (double a : r.alpha)
+    if (std::isfinite(a)) v.push_back(a);
+  const double range = numerics::percentile(v, 0.99) - numerics::percentile(v, 0.01);
+  Trial trial;
+  trial.fits = range <= 2 * o.plateau_tolerance_deg;
+  trial.why = "the angle spans " + num(range) + " deg (1st to 99th percentile), a steady angle at most " +
+              num(2 * o.plateau_tolerance_deg) + " (2 plateau_tolerance_deg)";
+  return trial;
+}
+
+std::vector<numerics::Plateau> try_staircase(const Record& r, const MotionStage::Options& o, bool forced,
+                                             Trial& trial) {
+  auto plateaus = numerics::find_plateaus(r.t, r.alpha, o.plateau_tolerance_deg, o.plateau_min_duration_s,
+                                          o.plateau_settle_s);
+  double covered = 0;
+  for (const auto& p : plateaus) covered += p.t_end - p.t_start;
+  const double fraction = covered / (r.t[r.t.size() - 1] - r.t[0]);
+  // Unforced, a staircase must be mostly steady; forced, two plateaus will do.
+  trial.fits = plateaus.size() >= 2 && (forced || fraction >= 0.5);
+  trial.why = std::to_string(plateaus.size()) + " steady plateaus (within +-" + num(o.plateau_tolerance_deg) +
+              " deg for at least " + num(o.plateau_min_duration_s) + " s) cover " + num(100 * fraction, 3) +
+              " % of the record";
+  return plateaus;
+}
+
+void write_plateaus(RunStore& s, const Record& r, const std::vector<numerics::Plateau>& plateaus,
+                    const std::string& motion) {
+  const std::size_t m = plateaus.size();
+  std::vector<std::int64_t> index, samples;
+  std::vector<double> t0, t1, t_avg, level, spread;
+  std::vector<std::string> direction;
+  for (std::size_t j = 0; j < m; ++j) {
+    const auto& p = plateaus[j];
+    index.push_back(static_cast<std::int64_t>(j));
+    samples.push_back(static_cast<std::int64_t>(p.end - p.begin));
+    t0.push_back(p.t_start);
+    t1.push_back(p.t_end);
+    t_avg.push_back(r.t[p.begin]);
+    level.push_back(p.level);
+    spread.push_back(p.std);
+    // The sweep direction in which the plateau was reached (the first: the way the sweep goes on).
+    const double step = j > 0 ? p.level - plateaus[j - 1].level : (m > 1 ? plateaus[1].level - p.level : 0.0);
+    direction.push_back(step > 0 ? "up" : step < 0 ? "down" : "steady");
+  }
+  // The fitted angle: each plateau's level, joined by straight lines between
+  // plateaus, held before the first and after the last.
+  std::vector<double> knot_t, knot_a;
+  for (const auto& p : plateaus) {
+    knot_t.insert(knot_t.end(), {p.t_start, p.t_end});
+    knot_a.insert(knot_a.end(), {p.level, p.level});
+  }
+  const Eigen::Index n = r.t.size();
+  Eigen::VectorXd alpha(n), rate(n);
+  for (Eigen::Index i = 0; i < n; ++i) {
+    const auto hi = std::upper_bound(knot_t.begin(), knot_t.end(), r.t[i]) - knot_t.begin();
+    if (hi == 0 || hi == static_cast<std::ptrdiff_t>(knot_t.size())) {
+      alpha[i] = hi == 0 ? knot_a.front() : knot_a.back();
+      rate[i] = 0;
+      continue;
+    }
+    const auto lo = static_cast<std::size_t>(hi - 1), up = static_cast<std::size_t>(hi);
+    rate[i] = (knot_a[up] - knot_a[lo]) / (knot_t[up] - knot_t[lo]);
+    alpha[i] = knot_a[lo] + rate[i] * (r.t[i] - knot_t[lo]);
+  }
+  Table table;
+  table.add({"plateau", "1", index})
+      .add({"t_start_s", "s", t0})
+      .add({"t_end_s", "s", t1})
+      .add({"t_average_start_s", "s", t_avg})
+      .add({"alpha_deg", "deg", level})
+      .add({"alpha_std_deg", "deg", spread})
+      .add({"samples", "1", samples})
+      .add({"direction", "", direction});
+  s.put("motion/plateaus", std::move(table));
+  s.put("motion/alpha_deg", Series{std::move(alpha), "deg"}, {{"source", std::string("plateau levels")}});
+  s.put("motion/alpha_rate_deg_s", Series{std::move(rate), "deg/s"}, {{"source", std::string("plateau levels")}});
+  double lo = level.front(), hi = level.front(), sum = 0;
+  for (double l : level) {
+    lo = std::min(lo, l);
+    hi = std::max(hi, l);
+    sum += l;
+  }
+  s.put("run/motion", Text{motion});
+  s.put("run/alpha_mean_deg", Scalar{sum / static_cast<double>(m), "deg"});
+  s.put("run/alpha_amp_deg", Scalar{0.5 * (hi - lo), "deg"});
+  s.put("run/freq_hz", Scalar{0.0, "Hz"});
+  s.put("run/k", Scalar{0.0, "1"});
+}
+
+}  // namespace
+
+// --- MotionFit ---------------------------------------------------------------
+
+double MotionFit::phase_deg(double t) const {
+  const double turns = (t - cycle_origin_s) * freq_hz;
+  double p = 360.0 * (turns - std::floor(turns));
+  return p >= 360.0 ? 0.0 : p;
+}
+
+std::int64_t MotionFit::cycle(double t) const {
+  const auto c = static_cast<std::int64_t>(std::floor((t - cycle_origin_s) * freq_hz + 1e-9));
+  return c >= 0 && c < cycles ? c : -1;
+}
+
+double MotionFit::cycle_start_s(std::int64_t c) const { return cycle_origin_s + static_cast<double>(c) / freq_hz; }
+
+double MotionFit::alpha_deg(double t) const {
+  const double th = 2 * kPi * freq_hz * t + sine_phase_rad;
+  double a = alpha_mean_deg + alpha_amp_deg * std::sin(th);
+  for (std::size_t j = 0; j < harmonic_sin_deg.size(); ++j) {
+    const double h = static_cast<double>(j + 2);
+    a += harmonic_sin_deg[j] * std::sin(h * th) + harmonic_cos_deg[j] * std::cos(h * th);
+  }
+  return a;
+}
+
+double MotionFit::alpha_rate_deg_s(double t) const {
+  const double th = 2 * kPi * freq_hz * t + sine_phase_rad;
+  double d = alpha_amp_deg * std::cos(th);
+  for (std::size_t j = 0; j < harmonic_sin_deg.size(); ++j) {
+    const double h = static_cast<double>(j + 2);
+    d += h * (harmonic_sin_deg[j] * std::cos(h * th) - harmonic_cos_deg[j] * std::sin(h * th));
+  }
+  return 2 * kPi * freq_hz * d;
+}
+
+MotionFit MotionFit::from_store(const RunStore& store, const std::string& needed_by) {
+  if (!store.contains("motion/fit")) {
+    const std::string motion = store.contains("run/motion") ? store.get<Text>("run/motion").value : "unknown";
+    throw InputError("[" + needed_by + "]", "needs a periodic pitch motion, but [motion] found the run's motion to be '" +
+                                                motion + "' (disable [" + needed_by + "] for this run)");
+  }
+  const Entry& e = store.entry("motion/fit");
+  MotionFit m;
+  m.freq_hz = attribute_number(e.attributes, "freq_hz");
+  m.alpha_mean_deg = attribute_number(e.attributes, "alpha_mean_deg");
+  m.alpha_amp_deg = attribute_number(e.attributes, "alpha_amp_deg");
+  m.sine_phase_rad = attribute_number(e.attributes, "sine_phase_rad");
+  m.cycle_origin_s = attribute_number(e.attributes, "cycle_origin_s");
+  m.cycles = static_cast<std::int64_t>(attribute_number(e.attributes, "cycles"));
+  const Table& table = std::get<Table>(e.value);
+  const auto& order = table.integers("harmonic");
+  for (std::size_t i = 0; i < order.size(); ++i) {
+    if (order[i] < 2) continue;
+    m.harmonic_sin_deg.push_back(table.numbers("sin_deg")[i]);
+    m.harmonic_cos_deg.push_back(table.numbers("cos_deg")[i]);
+  }
+  return m;
+}
+
+// --- MotionStage -------------------------------------------------------------
+
+void MotionStage::configure(ConfigSection& s) {
+  type_where_ = s.where("type");
+  options_.type = s.choice("type", {"auto", "sine", "ramp", "static", "staircase"}, options_.type);
+  options_.harmonics = s.integer("harmonics", options_.harmonics);
+  s.require(options_.harmonics >= 1 && options_.harmonics <= 20, "harmonics",
+            "expected the number of terms of the periodic fit, fundamental included, from 1 to 20");
+  options_.max_residual_fraction = s.number("max_residual_fraction", options_.max_residual_fraction);
+  s.require(options_.max_residual_fraction > 0 && options_.max_residual_fraction < 1, "max_residual_fraction",
+            "expected a fraction between 0 and 1");
+  options_.plateau_tolerance_deg = s.number("plateau_tolerance_deg", options_.plateau_tolerance_deg);
+  s.require(options_.plateau_tolerance_deg > 0 && options_.plateau_tolerance_deg < 10, "plateau_tolerance_deg",
+            "expected an angle band in degrees, > 0 and < 10");
+  options_.plateau_min_duration_s = s.number("plateau_min_duration_s", options_.plateau_min_duration_s);
+  s.require(options_.plateau_min_duration_s > 0, "plateau_min_duration_s", "expected a duration > 0 s");
+  options_.plateau_settle_s = s.number("plateau_settle_s", options_.plateau_settle_s);
+  s.require(options_.plateau_settle_s >= 0 && options_.plateau_settle_s < options_.plateau_min_duration_s,
+            "plateau_settle_s", "expected a settling time >= 0 and shorter than plateau_min_duration_s");
+}
+
+std::vector<std::string> MotionStage::inputs() const {
+  return {"signals/time_s", kAngleKey, "run/chord_m", "run/U_inf_m_s"};
+}
+
+std::vector<std::string> MotionStage::outputs() const {
+  std::vector<std::string> out = {"motion/alpha_deg", "motion/alpha_rate_deg_s", "run/motion", "run/alpha_mean_deg",
+                                  "run/alpha_amp_deg", "run/freq_hz", "run/k"};
+  const std::string& t = options_.type;
+  if (t == "auto" || t == "sine")
+    out.insert(out.end(), {"motion/fit", "motion/phase_deg", "motion/cycle"});
+  if (t == "auto" || t == "static" || t == "staircase") out.push_back("motion/plateaus");
+  if (t == "auto" || t == "ramp")
+    out.insert(out.end(), {"motion/ramp_start_s", "motion/ramp_end_s", "motion/ramp_alpha_start_deg",
+                           "motion/ramp_alpha_end_deg", "motion/ramp_rate_deg_s", "motion/ramp_rate_nondim",
+                           "motion/ramp_residual_deg"});
+  return out;
+}
+
+void MotionStage::run(RunContext& context) {
+  RunStore& s = context.store();
+  const Eigen::VectorXd& t = s.get<Series>("signals/time_s").values;
+  const Eigen::VectorXd& alpha = s.get<Series>(kAngleKey).values;
+  if (alpha.size() != t.size())
+    throw std::logic_error("signals/alpha_deg and signals/time_s differ in length");
+  Eigen::Index finite = 0;
+  double lo = INFINITY, hi = -INFINITY;
+  for (double a : alpha)
+    if (std::isfinite(a)) {
+      ++finite;
+      lo = std::min(lo, a);
+      hi = std::max(hi, a);
+    }
+  if (finite < 20 || 2 * finite < alpha.size())
+    throw InputError(kAngleKey, "only " + std::to_string(finite) + " of " + std::to_string(alpha.size()) +
+                                    " angle samples are finite numbers (angle channel dead or missing?)");
+  const std::string& type = options_.type;
+  if (hi == lo && type != "static")
+    throw InputError(kAngleKey, "the angle is exactly constant (" + num(lo) + " deg over " +
+                                    std::to_string(alpha.size()) +
+                                    " samples): a dead encoder? If the run is static, set [motion] type = \"static\"");
+  const Record r{t, alpha, s.get<Scalar>("run/chord_m").value, s.get<Scalar>("run/U_inf_m_s").value};
+
+  std::vector<std::string> reasons;
+  if (type == "static" || type == "auto") {
+    Trial trial = try_static(r, options_);
+    if (trial.fits) {
+      std::vector<double> v;
+      for (double a : alpha)
+        if (std::isfinite(a)) v.push_back(a);
+      numerics::Plateau whole;
+      whole.begin = 0;
+      whole.end = alpha.size();
+      whole.t_start = t[0];
+      whole.t_end = t[t.size() - 1];
+      whole.level = numerics::mean(v);
+      whole.std = numerics::sample_std(v);
+      write_plateaus(s, r, {whole}, "static");
+      return;
+    }
+    reasons.push_back(trial.why);
+  }
+  if (type == "sine" || type == "auto") {
+    Trial trial;
+    auto fit = try_sine(r, options_, trial);
+    if (trial.fits) return write_sine(s, r, *fit);
+    reasons.push_back(trial.why);
+  }
+  if (type == "staircase" || type == "auto") {
+    Trial trial;
+    auto plateaus = try_staircase(r, options_, type == "staircase", trial);
+    if (trial.fits) return write_plateaus(s, r, plateaus, "staircase");
+    reasons.push_back(trial.why);
+  }
+  if (type == "ramp" || type == "auto") {
+    Trial trial;
+    auto ramp = try_ramp(r, options_, trial);
+    if (trial.fits) return write_ramp(s, r, *ramp);
+    reasons.push_back(trial.why);
+  }
+  std::string why;
+  for (const auto& reason : reasons) why += (why.empty() ? "" : "; ") + reason;
+  if (type == "auto")
+    throw InputError(kAngleKey, "the pitch motion is none of sine, ramp, static angle or staircase: " + why +
+                                    ". Check the angle channel, or force a type with [motion] type = ...");
+  throw InputError(type_where_, "type = \"" + type + "\" does not fit " + kAngleKey + ": " + why);
+}
+
+}  // namespace stallscope

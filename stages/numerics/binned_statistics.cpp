@@ -1,0 +1,85 @@
+#include "stages/numerics/binned_statistics.hpp"
+
+#include <cmath>
+#include <limits>
+#include <stdexcept>
+#include <vector>
+
+#include "stages/numerics/statistics.hpp"
+
+namespace stallscope::numerics {
+
+namespace {
+
+// Members grouped by bin (a counting sort): rows of bin b are order[offset[b] .. offset[b+1]).
+struct Groups {
+  std::vector<Eigen::Index> order;
+  std::vector<std::size_t> offset;
+};
+
+Groups group(std::span<const Eigen::Index> sample, std::span<const int> bin, int bins, Eigen::Index rows) {
+  if (sample.size() != bin.size()) throw std::logic_error("bin_statistics: sample and bin lengths differ");
+  Groups g;
+  g.offset.assign(static_cast<std::size_t>(bins) + 1, 0);
+  for (std::size_t m = 0; m < bin.size(); ++m) {
+    if (bin[m] < 0 || bin[m] >= bins || sample[m] < 0 || sample[m] >= rows)
+      throw std::logic_error("bin_statistics: member out of range");
+    ++g.offset[static_cast<std::size_t>(bin[m]) + 1];
+  }
+  for (int b = 0; b < bins; ++b) g.offset[b + 1] += g.offset[b];
+  g.order.resize(bin.size());
+  std::vector<std::size_t> next(g.offset.begin(), g.offset.end() - 1);
+  for (std::size_t m = 0; m < bin.size(); ++m) g.order[next[static_cast<std::size_t>(bin[m])]++] = sample[m];
+  return g;
+}
+
+}  // namespace
+
+BinnedStatistics bin_statistics(const Eigen::Ref<const Eigen::MatrixXd>& y, std::span<const Eigen::Index> sample,
+                                std::span<const int> bin, int bins, int threads) {
+  const Groups g = group(sample, bin, bins, y.rows());
+  const Eigen::Index cols = y.cols();
+  constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+  BinnedStatistics r;
+  r.mean = r.std = r.p05 = r.p95 = Eigen::MatrixXd::Constant(bins, cols, kNaN);
+  r.n = Eigen::MatrixXi::Zero(bins, cols);
+#pragma omp parallel for num_threads(threads) schedule(dynamic)
+  for (Eigen::Index j = 0; j < cols; ++j) {
+    std::vector<double> v;
+    for (int b = 0; b < bins; ++b) {
+      v.clear();
+      for (std::size_t m = g.offset[b]; m < g.offset[b + 1]; ++m) {
+        const double x = y(g.order[m], j);
+        if (std::isfinite(x)) v.push_back(x);
+      }
+      r.n(b, j) = static_cast<int>(v.size());
+      if (v.empty()) continue;
+      r.mean(b, j) = mean(v);
+      r.std(b, j) = v.size() > 1 ? sample_std(v) : kNaN;
+      r.p05(b, j) = percentile(v, 0.05);
+      r.p95(b, j) = percentile(v, 0.95);
+    }
+  }
+  return r;
+}
+
+Eigen::MatrixXd bin_means(const Eigen::Ref<const Eigen::MatrixXd>& y, std::span<const Eigen::Index> sample,
+                          std::span<const int> bin, int bins) {
+  if (sample.size() != bin.size()) throw std::logic_error("bin_means: sample and bin lengths differ");
+  Eigen::MatrixXd sum = Eigen::MatrixXd::Zero(bins, y.cols());
+  Eigen::MatrixXi count = Eigen::MatrixXi::Zero(bins, y.cols());
+  for (std::size_t m = 0; m < bin.size(); ++m)
+    for (Eigen::Index j = 0; j < y.cols(); ++j) {
+      const double x = y(sample[m], j);
+      if (!std::isfinite(x)) continue;
+      sum(bin[m], j) += x;
+      ++count(bin[m], j);
+    }
+  Eigen::MatrixXd out(bins, y.cols());
+  for (int b = 0; b < bins; ++b)
+    for (Eigen::Index j = 0; j < y.cols(); ++j)
+      out(b, j) = count(b, j) ? sum(b, j) / count(b, j) : std::numeric_limits<double>::quiet_NaN();
+  return out;
+}
+
+}  // namespace stallscope::numerics

@@ -1,0 +1,233 @@
+#include "stages/motion.hpp"
+
+#include <gtest/gtest.h>
+
+#include <cmath>
+
+#include "pipeline/errors.hpp"
+#include "pipeline/scheduler.hpp"
+#include "tests/motion/harness.hpp"
+
+namespace stallscope {
+namespace {
+
+using testing::Harness;
+using testing::kPi;
+using testing::SineRun;
+
+double attribute(const RunStore& s, const std::string& key, const std::string& name) {
+  return std::get<double>(s.entry(key).attributes.at(name));
+}
+
+TEST(MotionStage, FitsASinusoidalPitchAndGivesTheReducedFrequency) {
+  Harness h;
+  SineRun r;
+  r.noise_deg = 0.05;
+  testing::put_sine_run(h.store, r);
+  MotionStage stage;
+  h.run(stage);
+  const RunStore& s = h.store;
+  EXPECT_EQ(s.get<Text>("run/motion").value, "sine");
+  EXPECT_NEAR(s.get<Scalar>("run/freq_hz").value, r.freq_hz, 1e-4);
+  EXPECT_NEAR(s.get<Scalar>("run/alpha_mean_deg").value, r.mean_deg, 5e-3);
+  EXPECT_NEAR(s.get<Scalar>("run/alpha_amp_deg").value, r.amp_deg, 5e-3);
+  // k = omega c / (2U) = pi f c / U (published-checks conventions).
+  EXPECT_NEAR(s.get<Scalar>("run/k").value, kPi * s.get<Scalar>("run/freq_hz").value * r.chord_m / r.speed_m_s,
+              1e-12);
+  EXPECT_NEAR(attribute(s, "motion/fit", "residual_deg"), r.noise_deg, 0.005);
+  EXPECT_LT(attribute(s, "motion/fit", "harmonic_distortion"), 1e-3);
+  // published-checks section 10 [C]: the peak non-dimensional pitch rate is alpha1 k.
+  EXPECT_NEAR(attribute(s, "motion/fit", "max_pitch_rate_nondim"),
+              s.get<Scalar>("run/alpha_amp_deg").value * kPi / 180 * s.get<Scalar>("run/k").value, 1e-12);
+}
+
+TEST(MotionStage, PutsPhaseZeroAtTheMinimumAngleAndNumbersCompleteCycles) {
+  Harness h;
+  SineRun r;  // 2 Hz for 5 s: alpha = 10 + 8 sin(4 pi t + 0.3)
+  testing::put_sine_run(h.store, r);
+  MotionStage stage;
+  h.run(stage);
+  const MotionFit m = MotionFit::from_store(h.store, "test");
+  // The first minimum: 4 pi t + 0.3 = 3 pi / 2 -> t = (1.5 pi - 0.3) / (4 pi).
+  const double first_min = (1.5 * kPi - 0.3) / (4 * kPi);
+  EXPECT_NEAR(m.cycle_origin_s, first_min, 1e-9);
+  // From 0.351 s to the end (4.999 s) there are 9 whole cycles; the partial ones are -1.
+  EXPECT_EQ(m.cycles, 9);
+  const Series& cycle = h.store.get<Series>("motion/cycle");
+  const Series& phase = h.store.get<Series>("motion/phase_deg");
+  EXPECT_EQ(cycle.values[0], -1);
+  EXPECT_EQ(cycle.values[cycle.values.size() - 1], -1);
+  EXPECT_EQ(cycle.values.maxCoeff(), 8);
+  const Eigen::VectorXd& t = h.store.get<Series>("signals/time_s").values;
+  for (Eigen::Index i = 0; i < t.size(); i += 37) {
+    // phase = theta + 90 deg; the fitted angle there is mean - amp cos(phase).
+    const double expected = std::fmod((4 * kPi * t[i] + 0.3) * 180 / kPi + 90.0, 360.0);
+    EXPECT_NEAR(std::remainder(phase.values[i] - expected, 360.0), 0.0, 1e-7) << "t = " << t[i];
+  }
+  EXPECT_NEAR(m.alpha_deg(first_min), r.mean_deg - r.amp_deg, 1e-9);
+  EXPECT_NEAR(m.phase_deg(first_min + 0.25 * m.period_s()), 90.0, 1e-7);
+}
+
+TEST(MotionStage, TakesThePitchRateFromTheFitNotFromDifferencing) {
+  Harness h;
+  SineRun r;
+  r.noise_deg = 0.2;  // differencing this at 1 kHz would give rate noise of ~280 deg/s
+  testing::put_sine_run(h.store, r);
+  MotionStage stage;
+  h.run(stage, "harmonics = 1\n");
+  const Eigen::VectorXd& t = h.store.get<Series>("signals/time_s").values;
+  const Eigen::VectorXd& rate = h.store.get<Series>("motion/alpha_rate_deg_s").values;
+  double worst = 0;
+  for (Eigen::Index i = 0; i < t.size(); ++i) {
+    const double exact = r.amp_deg * 2 * kPi * r.freq_hz * std::cos(2 * kPi * r.freq_hz * t[i] + r.phase_rad);
+    worst = std::max(worst, std::abs(rate[i] - exact));
+  }
+  // The amplitude's error (~0.004 deg) times omega and the phase error: well under 1 deg/s.
+  EXPECT_LT(worst, 1.0);
+}
+
+Eigen::VectorXd staircase(const Eigen::VectorXd& t, const std::vector<double>& levels, double hold, double move) {
+  Eigen::VectorXd a(t.size());
+  for (Eigen::Index i = 0; i < t.size(); ++i) {
+    const double period = hold + move;
+    const auto j = std::min(static_cast<std::size_t>(t[i] / period), levels.size() - 1);
+    const double in = t[i] - static_cast<double>(j) * period;
+    a[i] = (in < hold || j + 1 >= levels.size()) ? levels[j] : levels[j] + (levels[j + 1] - levels[j]) * (in - hold) / move;
+  }
+  return a;
+}
+
+TEST(MotionStage, RecognisesAStaircaseOfSteadyAnglesInBothSweepDirections) {
+  Harness h;
+  testing::put_conditions(h.store, 0.3, 20);
+  const Eigen::VectorXd t = testing::time_base(0, 200, 7 * 3.0);
+  const std::vector<double> levels{0, 4, 8, 12, 8, 4, 0};
+  h.store.put("signals/time_s", Series{t, "s"});
+  h.store.put("signals/alpha_deg", Series{staircase(t, levels, 2.5, 0.5), "deg"});
+  MotionStage stage;
+  h.run(stage, "plateau_settle_s = 0.2\n");
+  EXPECT_EQ(h.store.get<Text>("run/motion").value, "staircase");
+  const Table& p = h.store.get<Table>("motion/plateaus");
+  ASSERT_EQ(p.rows(), levels.size());
+  const std::vector<std::string> direction{"up", "up", "up", "up", "down", "down", "down"};
+  for (std::size_t j = 0; j < levels.size(); ++j) {
+    EXPECT_NEAR(p.numbers("alpha_deg")[j], levels[j], 1e-12);
+    EXPECT_EQ(p.texts("direction")[j], direction[j]) << "plateau " << j;
+    EXPECT_GE(p.numbers("t_average_start_s")[j], p.numbers("t_start_s")[j] + 0.2 - 1e-9);
+  }
+  EXPECT_FALSE(h.store.contains("motion/fit"));
+  EXPECT_EQ(h.store.get<Scalar>("run/k").value, 0.0);
+  // Between plateaus the fitted angle runs straight from one level to the next.
+  const Eigen::VectorXd& fitted = h.store.get<Series>("motion/alpha_deg").values;
+  EXPECT_NEAR(fitted[static_cast<Eigen::Index>(2.75 * 200)], 2.0, 0.3);
+}
+
+TEST(MotionStage, MeasuresAConstantRateRamp) {
+  Harness h;
+  testing::put_conditions(h.store, 0.3, 20);
+  const Eigen::VectorXd t = testing::time_base(0, 1000, 3.0);
+  Eigen::VectorXd a(t.size());
+  for (Eigen::Index i = 0; i < t.size(); ++i) a[i] = t[i] < 1 ? 0.0 : t[i] < 1.5 ? 60.0 * (t[i] - 1) : 30.0;
+  h.store.put("signals/time_s", Series{t, "s"});
+  h.store.put("signals/alpha_deg", Series{a, "deg"});
+  MotionStage stage;
+  h.run(stage);
+  EXPECT_EQ(h.store.get<Text>("run/motion").value, "ramp");
+  EXPECT_NEAR(h.store.get<Scalar>("motion/ramp_rate_deg_s").value, 60.0, 1e-6);
+  EXPECT_NEAR(h.store.get<Scalar>("motion/ramp_start_s").value, 1.0, 1e-6);
+  EXPECT_NEAR(h.store.get<Scalar>("motion/ramp_end_s").value, 1.5, 1e-6);
+  // r = alpha_dot c / (2U) = (60 pi/180) 0.3 / 40.
+  EXPECT_NEAR(h.store.get<Scalar>("motion/ramp_rate_nondim").value, 60 * kPi / 180 * 0.3 / 40, 1e-9);
+}
+
+TEST(MotionStage, RecognisesOneSteadyAngle) {
+  Harness h;
+  SineRun r;
+  r.amp_deg = 0.0;
+  r.noise_deg = 0.03;
+  testing::put_sine_run(h.store, r);
+  MotionStage stage;
+  h.run(stage);
+  EXPECT_EQ(h.store.get<Text>("run/motion").value, "static");
+  EXPECT_NEAR(h.store.get<Scalar>("run/alpha_mean_deg").value, r.mean_deg, 0.003);
+  EXPECT_EQ(h.store.get<Table>("motion/plateaus").rows(), 1u);
+}
+
+TEST(MotionStage, RefusesAConstantAngleUnlessTheRunIsDeclaredStatic) {
+  Harness h;
+  SineRun r;
+  r.amp_deg = 0.0;
+  testing::put_sine_run(h.store, r);
+  MotionStage stage;
+  try {
+    h.run(stage);
+    FAIL() << "expected an InputError";
+  } catch (const InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("signals/alpha_deg"), std::string::npos) << e.what();
+    EXPECT_NE(std::string(e.what()).find("constant"), std::string::npos) << e.what();
+  }
+  MotionStage forced;
+  h.run(forced, "type = \"static\"\n");
+  EXPECT_EQ(h.store.get<Text>("run/motion").value, "static");
+}
+
+TEST(MotionStage, SaysWhichForcedTypeDoesNotFitAndWhy) {
+  Harness h;
+  testing::put_conditions(h.store, 0.3, 20);
+  const Eigen::VectorXd t = testing::time_base(0, 200, 12.0);
+  h.store.put("signals/time_s", Series{t, "s"});
+  h.store.put("signals/alpha_deg", Series{staircase(t, {0, 5, 10, 15}, 2.5, 0.5), "deg"});
+  MotionStage stage;
+  try {
+    h.run(stage, "type = \"sine\"\n");
+    FAIL() << "expected an InputError";
+  } catch (const InputError& e) {
+    const std::string what = e.what();
+    EXPECT_NE(what.find("run.toml:2"), std::string::npos) << what;  // the type key's line
+    EXPECT_NE(what.find("type = \"sine\" does not fit"), std::string::npos) << what;
+    EXPECT_NE(what.find("misfit"), std::string::npos) << what;
+  }
+}
+
+TEST(MotionStage, ExplainsAMotionThatIsNoneOfTheKnownKinds) {
+  Harness h;
+  testing::put_conditions(h.store, 0.3, 20);
+  const Eigen::VectorXd t = testing::time_base(0, 500, 4.0);
+  std::mt19937 gen(5);
+  std::uniform_real_distribution<double> jump(0, 15);
+  Eigen::VectorXd a(t.size());
+  for (Eigen::Index i = 0; i < t.size(); ++i) a[i] = jump(gen);  // random angles: no motion at all
+  h.store.put("signals/time_s", Series{t, "s"});
+  h.store.put("signals/alpha_deg", Series{a, "deg"});
+  MotionStage stage;
+  try {
+    h.run(stage);
+    FAIL() << "expected an InputError";
+  } catch (const InputError& e) {
+    const std::string what = e.what();
+    EXPECT_NE(what.find("none of sine, ramp, static angle or staircase"), std::string::npos) << what;
+    EXPECT_NE(what.find("[motion] type"), std::string::npos) << what;
+  }
+}
+
+TEST(MotionStage, NeedsTheAngleSignal) {
+  std::vector<std::unique_ptr<Stage>> stages;
+  stages.push_back(std::make_unique<MotionStage>());
+  try {
+    schedule(stages, "run.toml", {"signals/time_s", "run/chord_m", "run/U_inf_m_s"});
+    FAIL() << "expected an InputError";
+  } catch (const InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("signals/alpha_deg"), std::string::npos) << e.what();
+  }
+}
+
+TEST(MotionStage, RejectsOptionsOutOfRange) {
+  MotionStage stage;
+  EXPECT_THROW(Harness::configure(stage, "type = \"wobble\"\n"), InputError);
+  EXPECT_THROW(Harness::configure(stage, "harmonics = 0\n"), InputError);
+  EXPECT_THROW(Harness::configure(stage, "max_residual_fraction = 1.5\n"), InputError);
+  EXPECT_THROW(Harness::configure(stage, "plateau_settle_s = 2\nplateau_min_duration_s = 1\n"), InputError);
+}
+
+}  // namespace
+}  // namespace stallscope

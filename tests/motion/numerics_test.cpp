@@ -1,0 +1,168 @@
+#include <gtest/gtest.h>
+
+#include <array>
+#include <cmath>
+#include <fstream>
+#include <random>
+#include <vector>
+
+#include "stages/numerics/plateaus.hpp"
+#include "stages/numerics/resample.hpp"
+#include "stages/numerics/spectrum.hpp"
+#include "stages/numerics/statistics.hpp"
+#include "tests/support/test_support.hpp"
+
+namespace stallscope::numerics {
+namespace {
+
+using stallscope::testing::ScratchDir;
+
+// numpy computes the same DFT in double precision; the two FFTs differ by rounding only.
+constexpr double kFftRelativeTolerance = 1e-10;
+
+Eigen::VectorXd two_tone(Eigen::Index n, double rate_hz) {
+  std::mt19937 gen(3);
+  std::normal_distribution<double> noise(0.0, 0.2);
+  Eigen::VectorXd y(n);
+  for (Eigen::Index i = 0; i < n; ++i) {
+    const double t = static_cast<double>(i) / rate_hz;
+    y[i] = 4.0 + 2.0 * std::sin(2 * M_PI * 3.7 * t + 0.4) + 0.5 * std::sin(2 * M_PI * 11.0 * t) + noise(gen);
+  }
+  return y;
+}
+
+// Reference: numpy.fft.rfft through Debian's /usr/bin/python3.
+TEST(AmplitudeSpectrum, AgreesWithNumpysRealFft) {
+  ScratchDir dir;
+  const auto script = dir.write("rfft.py",
+                                "import sys, numpy as np\n"
+                                "y = np.loadtxt(sys.argv[1])\n"
+                                "np.savetxt(sys.argv[2], np.abs(np.fft.rfft(y)), fmt='%.17g')\n"
+                                "d = np.abs(np.fft.rfft(y - y.mean()))\n"
+                                "print(int(np.argmax(d[1:]) + 1))\n");
+  for (Eigen::Index n : {1000, 999}) {
+    const double rate = 200.0;
+    const Eigen::VectorXd y = two_tone(n, rate);
+    {
+      std::ofstream out(dir / "y.txt");
+      out.precision(17);
+      for (double v : y) out << v << "\n";
+    }
+    const auto r = stallscope::testing::run_python(script, (dir / "y.txt").string() + " " + (dir / "a.txt").string());
+    ASSERT_EQ(r.exit_code, 0) << r.err;
+    const Eigen::VectorXd a = amplitude_spectrum(y);
+    std::ifstream in(dir / "a.txt");
+    std::vector<double> reference;
+    for (double v; in >> v;) reference.push_back(v);
+    ASSERT_EQ(static_cast<Eigen::Index>(reference.size()), a.size()) << "n = " << n;
+    for (Eigen::Index j = 0; j < a.size(); ++j)
+      EXPECT_NEAR(a[j], reference[static_cast<std::size_t>(j)], kFftRelativeTolerance * reference.front())
+          << "bin " << j << ", n = " << n;
+    const SpectralPeak peak = spectral_peak(y, rate);
+    EXPECT_EQ(peak.bin, std::stol(r.out)) << "n = " << n;
+    // The refined peak lies within half a bin of the true 3.7 Hz (bin width 0.2 Hz).
+    EXPECT_NEAR(peak.frequency_hz, 3.7, 0.5 * rate / static_cast<double>(n));
+  }
+}
+
+TEST(Percentile, InterpolatesBetweenOrderStatisticsLikeNumpy) {
+  // numpy.percentile([4, 1, 3, 2], q) with the default linear method: 2.5, 1.15, 3.85, 1, 4.
+  std::vector<double> v{4, 1, 3, 2};
+  EXPECT_DOUBLE_EQ(percentile(v, 0.5), 2.5);
+  EXPECT_NEAR(percentile(v, 0.05), 1.15, 1e-12);
+  EXPECT_NEAR(percentile(v, 0.95), 3.85, 1e-12);
+  EXPECT_DOUBLE_EQ(percentile(v, 0.0), 1.0);
+  EXPECT_DOUBLE_EQ(percentile(v, 1.0), 4.0);
+  std::vector<double> one{7};
+  EXPECT_DOUBLE_EQ(percentile(one, 0.95), 7.0);
+  std::vector<double> none;
+  EXPECT_THROW(percentile(none, 0.5), std::invalid_argument);
+}
+
+// published-checks section 11 [C]: t(0.975, nu) to 4 decimals, tolerance 1e-4.
+TEST(StudentT, MatchesTheTabulatedQuantiles) {
+  constexpr double kTableTolerance = 1e-4;
+  const std::array<double, 8> nu{1, 2, 4, 5, 9, 10, 19, 29};
+  const std::array<double, 8> t{12.7062, 4.3027, 2.7764, 2.5706, 2.2622, 2.2281, 2.0930, 2.0452};
+  for (std::size_t i = 0; i < nu.size(); ++i)
+    EXPECT_NEAR(student_t_quantile(0.975, nu[i]), t[i], kTableTolerance) << "nu = " << nu[i];
+  EXPECT_NEAR(student_t_quantile(0.975, 1e9), 1.9600, kTableTolerance);  // the normal limit
+  EXPECT_NEAR(student_t_quantile(0.025, 9), -2.2622, kTableTolerance);
+  EXPECT_EQ(student_t_quantile(0.5, 3), 0.0);
+  EXPECT_THROW(student_t_quantile(1.0, 3), std::invalid_argument);
+}
+
+// published-checks section 11 example [C]: 1..10 -> mean 5.5, s 3.027650, CI [3.334149, 7.665851].
+TEST(MeanInterval, ReproducesTheWorkedExample) {
+  std::vector<double> x{1, 2, 3, 4, 5, 6, 7, 8, 9, 10};
+  const MeanInterval m = mean_interval95(x);
+  EXPECT_DOUBLE_EQ(m.mean, 5.5);
+  EXPECT_NEAR(m.std, 3.027650, 1e-6);
+  EXPECT_NEAR(m.lo, 3.334149, 1e-6);
+  EXPECT_NEAR(m.hi, 7.665851, 1e-6);
+  EXPECT_TRUE(std::isnan(mean_interval95(std::vector<double>{1.0}).lo));
+}
+
+TEST(InterpolateLinear, IsExactOnStraightLinesAndNeverExtrapolates) {
+  Eigen::VectorXd ts(4), ys(4), tt(5);
+  ts << 0, 1, 2, 4;
+  ys << 1, 3, 5, 9;  // y = 2 t + 1
+  tt << 0.5, 2, 3.25, -0.1, 4.1;
+  const Eigen::VectorXd y = interpolate_linear(ts, ys, tt);
+  EXPECT_DOUBLE_EQ(y[0], 2.0);
+  EXPECT_DOUBLE_EQ(y[1], 5.0);
+  EXPECT_DOUBLE_EQ(y[2], 7.5);
+  EXPECT_TRUE(std::isnan(y[3]));
+  EXPECT_TRUE(std::isnan(y[4]));
+}
+
+// A staircase up and back down: 0, 2, 4, 6, 4, 2, 0 deg, 2 s each, 0.5 s moves, noise 0.02 deg.
+TEST(FindPlateaus, FindsEveryStepOfANoisyStaircase) {
+  const std::array<double, 7> levels{0, 2, 4, 6, 4, 2, 0};
+  const double rate = 100, hold = 2.0, move = 0.5;
+  std::mt19937 gen(11);
+  std::normal_distribution<double> noise(0.0, 0.02);
+  std::vector<double> tv, yv;
+  for (std::size_t j = 0; j < levels.size(); ++j) {
+    const double start = static_cast<double>(j) * (hold + move);
+    for (int i = 0; i < static_cast<int>(hold * rate); ++i) {
+      tv.push_back(start + i / rate);
+      yv.push_back(levels[j] + noise(gen));
+    }
+    if (j + 1 < levels.size())
+      for (int i = 0; i < static_cast<int>(move * rate); ++i) {
+        tv.push_back(start + hold + i / rate);
+        yv.push_back(levels[j] + (levels[j + 1] - levels[j]) * i / (move * rate) + noise(gen));
+      }
+  }
+  const Eigen::VectorXd t = Eigen::Map<Eigen::VectorXd>(tv.data(), static_cast<Eigen::Index>(tv.size()));
+  const Eigen::VectorXd y = Eigen::Map<Eigen::VectorXd>(yv.data(), static_cast<Eigen::Index>(yv.size()));
+  const auto p = find_plateaus(t, y, 0.2, 1.0, 0.1);
+  ASSERT_EQ(p.size(), levels.size());
+  // Noise 0.02 over ~180 samples: the level's standard error is 0.0015 deg; 5 sigma.
+  constexpr double kLevelTolerance = 0.0075;
+  for (std::size_t j = 0; j < levels.size(); ++j) {
+    EXPECT_NEAR(p[j].level, levels[j], kLevelTolerance) << "plateau " << j;
+    EXPECT_NEAR(p[j].std, 0.02, 0.005) << "plateau " << j;
+    EXPECT_GE(t[p[j].begin], p[j].t_start + 0.1 - 1e-9);  // the settling time is left out
+  }
+}
+
+TEST(FitRamp, RecoversAnExactHoldRampHold) {
+  // 5 deg for 1 s, 20 deg/s for 1 s, 25 deg for 1 s, at 500 Hz.
+  const Eigen::Index n = 1500;
+  Eigen::VectorXd t(n), y(n);
+  for (Eigen::Index i = 0; i < n; ++i) {
+    t[i] = static_cast<double>(i) / 500.0;
+    y[i] = t[i] < 1 ? 5.0 : t[i] < 2 ? 5.0 + 20.0 * (t[i] - 1) : 25.0;
+  }
+  const RampFit r = fit_ramp(t, y);
+  EXPECT_NEAR(r.rate, 20.0, 1e-9);
+  EXPECT_NEAR(r.t_start, 1.0, 1e-9);
+  EXPECT_NEAR(r.t_end, 2.0, 1e-9);
+  EXPECT_NEAR(r.rms_residual, 0.0, 1e-9);
+  EXPECT_THROW(fit_ramp(t, Eigen::VectorXd::Constant(n, 3.0)), std::invalid_argument);
+}
+
+}  // namespace
+}  // namespace stallscope::numerics

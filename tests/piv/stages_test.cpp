@@ -1,0 +1,207 @@
+// The [piv] and [vortex] stages end to end on a small invented run: a
+// clockwise leading-edge vortex that grows in place, detaches and convects
+// past the trailing edge at a known speed, seen through a camera whose clock
+// drifts against the DAQ's, with an empty frame and frames after the DAQ
+// record ended.
+#include <gtest/gtest.h>
+
+#include <cmath>
+
+#include "pipeline/config.hpp"
+#include "pipeline/errors.hpp"
+#include "pipeline/hdf5.hpp"
+#include "pipeline/progress.hpp"
+#include "pipeline/provenance.hpp"
+#include "stages/piv/airfoil_frame.hpp"
+#include "stages/piv/piv_stage.hpp"
+#include "stages/piv/vortex_stage.hpp"
+#include "tests/piv/piv_fields.hpp"
+#include "tests/support/test_support.hpp"
+
+namespace stallscope {
+namespace {
+
+constexpr double kChord = 0.2, kU = 10.0, kSpeed = 0.35;  // convection speed / U
+constexpr double kOffset = 0.003, kDrift = 1e-5;           // camera clock against the DAQ's
+constexpr int kFrames = 90, kGrowthFrames = 20, kEmptyFrame = 30;
+constexpr double kDaqEnd = 0.085;
+
+double daq_time(int n) { return kOffset + (1 + kDrift) * 0.001 * n; }
+double alpha_at(double t) { return 8.0 + 20.0 * t; }
+double x_over_c(int n) { return 0.2 + (n > kGrowthFrames ? kSpeed * kU * 0.001 * (n - kGrowthFrames) / kChord : 0.0); }
+
+struct PivRun {
+  stallscope::testing::ScratchDir dir;
+  RunStore store;
+  Provenance provenance = Provenance::start("test");
+  Progress progress{Progress::Mode::kQuiet};
+
+  PivRun() {
+    const piv::Grid g = piv::testing::uniform_grid(-0.02, 0.28, -0.04, 0.10, 0.0025);
+    const piv::AirfoilPlacement placement{kChord, 0.25, 0.05, 0.0, 0.0};
+    const std::size_t n = g.size();
+    std::vector<float> u(kFrames * n), v(kFrames * n);
+    std::vector<double> camera(kFrames);
+    for (int k = 0; k < kFrames; ++k) {
+      camera[static_cast<std::size_t>(k)] = 0.001 * k;
+      const double gamma = -1.0 * kU * kChord * (k < kGrowthFrames ? (k + 1.0) / kGrowthFrames
+                                                                    : 1.0 - 0.002 * (k - kGrowthFrames));
+      double x = 0, y = 0;
+      piv::to_lab_frame(placement, alpha_at(daq_time(k)), {x_over_c(k), 0.12}, x, y);
+      const theory::LambOseenVortex vortex{x, y, gamma, 0.04 * kChord};
+      const piv::Frame f = piv::testing::vortex_frame(g, {vortex}, kU, 0.01 * kU, 50 + k);
+      for (std::size_t p = 0; p < n; ++p) {
+        u[k * n + p] = k == kEmptyFrame ? std::nanf("") : f.u[p];
+        v[k * n + p] = k == kEmptyFrame ? std::nanf("") : f.v[p];
+      }
+    }
+    h5::File file = h5::File::create(dir / "piv.h5");
+    h5::write_floats(file.id(), "piv/u", u.data(), {kFrames, g.ny(), g.nx()}, "m/s");
+    h5::write_floats(file.id(), "piv/v", v.data(), {kFrames, g.ny(), g.nx()}, "m/s");
+    h5::write_numbers(file.id(), "piv/x_m", g.x_m.data(), {g.nx()}, "m");
+    h5::write_numbers(file.id(), "piv/y_m", g.y_m.data(), {g.ny()}, "m");
+    h5::write_numbers(file.id(), "piv/time_s", camera.data(), {camera.size()}, "s");
+    file.close();
+
+    // DAQ at 10 kHz with the camera trigger: 0/5 V, 0.2 ms linear edges.
+    const int samples = static_cast<int>(std::lround((kDaqEnd + 0.01) * 1e4)) + 1;
+    Eigen::VectorXd t(samples), alpha(samples);
+    Eigen::MatrixXd volts = Eigen::MatrixXd::Zero(samples, 2);
+    for (int i = 0; i < samples; ++i) {
+      t[i] = -0.01 + i * 1e-4;
+      alpha[i] = alpha_at(t[i]);
+      volts(i, 0) = 1.0;
+      const int k = static_cast<int>(std::lround((t[i] - kOffset) / 0.001));
+      const double s = t[i] - daq_time(std::clamp(k, 0, kFrames - 1));
+      double level = 0;
+      if (std::abs(s) < 1e-4) level = (s + 1e-4) / 2e-4;
+      else if (s >= 1e-4 && s < 4e-4) level = 1;
+      volts(i, 1) = 5.0 * level;
+    }
+    store.put("run/chord_m", Scalar{kChord, "m"});
+    store.put("run/U_inf_m_s", Scalar{kU, "m/s"});
+    store.put("run/pivot_x_over_c", Scalar{0.25, "1"});
+    store.put("run/airfoil", Text{"NACA 0012"});
+    store.put("daq/time_s", Series{t, "s"});
+    store.put("daq/volts", Matrix{volts, "V", {"alpha_enc", "cam_trigger"}});
+    store.put("daq/roles/camera_trigger", Text{"cam_trigger"});
+    store.put("signals/time_s", Series{t, "s"});
+    store.put("motion/alpha_deg", Series{alpha, "deg"});
+  }
+
+  template <typename S>
+  void run_stage(const std::string& toml, const std::string& section, int threads) {
+    ConfigFile config = ConfigFile::parse(toml, dir / "reduce.toml");
+    ConfigSection s(config, section);
+    S stage;
+    stage.configure(s);
+    s.reject_unknown_keys();
+    RunContext context(store, provenance, progress, threads);
+    stage.run(context);
+  }
+};
+
+const std::string kConfig =
+    "[piv]\nfile = \"piv.h5\"\npivot_x_m = 0.05\npivot_y_m = 0.0\nmedian_epsilon_m_s = 0.05\nchunk_frames = 16\n"
+    "[vortex]\n";
+
+TEST(PivAndVortexStages, FindTheLeadingEdgeVortexAndItsEvents) {
+  PivRun run;
+  run.run_stage<PivStage>(kConfig, "piv", 2);
+  const RunStore& s = run.store;
+  EXPECT_EQ(s.get<Text>("piv/sync_method").value, "camera trigger");
+  // The edges are exact on linear ramps, so offset and drift are too (to round-off).
+  EXPECT_NEAR(s.get<Scalar>("piv/sync_offset_s").value, kOffset, 1e-9);
+  EXPECT_NEAR(s.get<Scalar>("piv/sync_drift").value, kDrift, 1e-8);
+  const Table& frames = s.get<Table>("piv/frames");
+  ASSERT_EQ(frames.rows(), static_cast<std::size_t>(kFrames));
+  EXPECT_EQ(frames.texts("reason")[kEmptyFrame], "no valid vectors");
+  for (int k = 0; k < kFrames; ++k) {
+    const bool outside = daq_time(k) > kDaqEnd;
+    if (outside) {
+      EXPECT_EQ(frames.texts("reason")[static_cast<std::size_t>(k)], "outside the DAQ record") << k;
+    } else if (k != kEmptyFrame) {
+      EXPECT_EQ(frames.texts("status")[static_cast<std::size_t>(k)], "ok") << k;
+    }
+  }
+
+  run.run_stage<VortexStage>(kConfig, "vortex", 2);
+  const Table& per = s.get<Table>("vortex/per_track");
+  std::size_t le = per.rows();
+  for (std::size_t k = 0; k < per.rows(); ++k)
+    if (per.integers("le_vortex")[k]) le = k;
+  ASSERT_LT(le, per.rows());
+  EXPECT_EQ(per.integers("sign")[le], -1);
+  // The empty frame is bridged: one track from birth to the end of the record.
+  EXPECT_EQ(per.integers("first_frame")[le], 0);
+  EXPECT_EQ(per.texts("end_reason")[le], "end of record");
+  // Convection: 2 % velocity noise on an r_c/3.2 grid; tolerance 2 % of the speed (common practice).
+  EXPECT_NEAR(per.numbers("convection_speed")[le], kSpeed, 0.007);
+  const Table& ev = s.get<Table>("vortex/events_per_cycle");
+  for (std::size_t k = 0; k < ev.rows(); ++k)
+    std::printf("%s %s t=%.5f s alpha=%.3f value=%.4f %s\n", ev.texts("event")[k].c_str(), ev.texts("status")[k].c_str(),
+                ev.numbers("t_s")[k], ev.numbers("alpha_deg")[k], ev.numbers("value")[k], ev.texts("reason")[k].c_str());
+  std::printf("tracks kept: %zu; LE speed %.4f +- %.4f U\n", per.rows(), per.numbers("convection_speed")[le],
+              per.numbers("convection_speed_uncertainty")[le]);
+  ASSERT_EQ(ev.rows(), 4u);
+  auto event = [&](const std::string& name) {
+    for (std::size_t k = 0; k < ev.rows(); ++k)
+      if (ev.texts("event")[k] == name) return k;
+    return ev.rows();
+  };
+  for (const char* name : {"vortex_detection", "vortex_detachment", "vortex_te_passage", "convection_speed"}) {
+    ASSERT_LT(event(name), ev.rows()) << name;
+    EXPECT_EQ(ev.texts("status")[event(name)], "ok") << name << ": " << ev.texts("reason")[event(name)];
+  }
+  EXPECT_NEAR(ev.numbers("t_s")[event("vortex_detection")], daq_time(0), 1e-9);
+  // Detachment: circulation peaks at frame 19-20; within 2 frames.
+  EXPECT_NEAR(ev.numbers("t_s")[event("vortex_detachment")], daq_time(kGrowthFrames), 2.5e-3);
+  // Trailing-edge passage: x/c = 1 at frame 20 + 0.8 c / (0.35 U 1 ms) = 65.71; within one frame.
+  const double te_frame = kGrowthFrames + 0.8 * kChord / (kSpeed * kU * 0.001);
+  EXPECT_NEAR(ev.numbers("t_s")[event("vortex_te_passage")], daq_time(0) + 0.001 * te_frame, 1e-3);
+  EXPECT_NEAR(ev.numbers("alpha_deg")[event("vortex_te_passage")], alpha_at(daq_time(0) + 0.001 * te_frame), 0.03);
+  EXPECT_NEAR(ev.numbers("value")[event("convection_speed")], kSpeed, 0.007);
+}
+
+TEST(PivStage, GivesTheSameDetectionsOnOneAndTwoThreads) {
+  PivRun one, two;
+  one.run_stage<PivStage>(kConfig, "piv", 1);
+  two.run_stage<PivStage>(kConfig, "piv", 2);
+  const Table &a = one.store.get<Table>("piv/detections"), &b = two.store.get<Table>("piv/detections");
+  ASSERT_EQ(a.rows(), b.rows());
+  EXPECT_EQ(a.integers("frame"), b.integers("frame"));
+  EXPECT_EQ(a.numbers("x_over_c"), b.numbers("x_over_c"));
+  EXPECT_EQ(a.numbers("circulation"), b.numbers("circulation"));
+}
+
+TEST(PivStage, RejectsFramesThatAllLieOutsideTheDaqRecord) {
+  PivRun run;
+  const std::string config =
+      "[piv]\nfile = \"piv.h5\"\npivot_x_m = 0.05\npivot_y_m = 0.0\nmedian_epsilon_m_s = 0.05\nsync = \"delay\"\n"
+      "trigger_delay_s = 5.0\n";
+  try {
+    run.run_stage<PivStage>(config, "piv", 1);
+    ADD_FAILURE() << "no error";
+  } catch (const InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("lies inside the DAQ record"), std::string::npos) << e.what();
+  }
+}
+
+TEST(PivStage, RejectsBadOptionsAtTheirKey) {
+  PivRun run;
+  try {
+    run.run_stage<PivStage>("[piv]\nfile = \"piv.h5\"\npivot_x_m = 0\npivot_y_m = 0\ngradient = \"spline\"\n", "piv", 1);
+    ADD_FAILURE() << "no error";
+  } catch (const InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("gradient"), std::string::npos) << e.what();
+  }
+  try {
+    run.run_stage<PivStage>("[piv]\nfile = \"piv.h5\"\npivot_x_m = 0\npivot_y_m = 0\n", "piv", 1);
+    ADD_FAILURE() << "no error";
+  } catch (const InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("median_epsilon_m_s"), std::string::npos) << e.what();
+  }
+}
+
+}  // namespace
+}  // namespace stallscope

@@ -59,25 +59,27 @@ Eigen::VectorXd shift_samples(const Eigen::VectorXd& x, double shift) {
 }
 
 Eigen::VectorXd centred_moving_mean(const Eigen::VectorXd& x, double window) {
-  // A window of w samples (fractional: the two end samples weighted by the
-  // remainder) so the mean spans exactly one period.
+  // The integral of the linear interpolant over [k - w/2, k + w/2], divided by w:
+  // for a whole number of samples per period every harmonic cancels exactly.
   const Eigen::Index n = x.size();
   const double half = 0.5 * window;
   const auto h = static_cast<Eigen::Index>(std::floor(half));
+  if (h < 1) return x;
   const double frac = half - static_cast<double>(h);
+  const double edge = 0.5 + frac * (1 - 0.5 * frac), beyond = 0.5 * frac * frac;
   Eigen::VectorXd prefix(n + 1);
   prefix[0] = 0;
   for (Eigen::Index i = 0; i < n; ++i) prefix[i + 1] = prefix[i] + x[i];
   Eigen::VectorXd y(n);
   for (Eigen::Index k = 0; k < n; ++k) {
     const Eigen::Index lo = k - h, hi = k + h;
-    if (lo - 1 < 0 || hi + 1 >= n) {  // near the ends: the whole samples that fit
+    if (lo - 1 < 0 || hi + 1 >= n) {  // near the ends: the plain mean of the samples that fit
       const Eigen::Index a = std::max<Eigen::Index>(0, lo), b = std::min<Eigen::Index>(n - 1, hi);
       y[k] = (prefix[b + 1] - prefix[a]) / static_cast<double>(b - a + 1);
       continue;
     }
-    const double sum = prefix[hi + 1] - prefix[lo] + frac * (x[lo - 1] + x[hi + 1]);
-    y[k] = sum / (static_cast<double>(2 * h + 1) + 2 * frac);
+    const double inner = prefix[hi] - prefix[lo + 1];  // |j| < h
+    y[k] = (inner + edge * (x[lo] + x[hi]) + beyond * (x[lo - 1] + x[hi + 1])) / window;
   }
   return y;
 }

@@ -29,6 +29,28 @@ double damping::loop_integral(std::span<const double> x, std::span<const double>
   return sum;
 }
 
+double damping::time_integral(std::span<const double> t, std::span<const double> g, double t_start, double t_end) {
+  if (t.size() != g.size()) throw std::logic_error("time_integral: lengths differ");
+  if (t.size() < 2 || !(t_end > t_start)) return 0;
+  auto value_at = [&](double x) {
+    const std::size_t j = static_cast<std::size_t>(
+        std::clamp<std::ptrdiff_t>(std::upper_bound(t.begin(), t.end(), x) - t.begin(), 1,
+                                   static_cast<std::ptrdiff_t>(t.size()) - 1));
+    const double w = (x - t[j - 1]) / (t[j] - t[j - 1]);
+    return g[j - 1] + w * (g[j] - g[j - 1]);
+  };
+  // Knots: t_start, the samples strictly inside, t_end.
+  double sum = 0, prev_t = t_start, prev_g = value_at(t_start);
+  for (std::size_t i = static_cast<std::size_t>(std::upper_bound(t.begin(), t.end(), t_start) - t.begin());
+       i < t.size() && t[i] < t_end; ++i) {
+    sum += 0.5 * (prev_g + g[i]) * (t[i] - prev_t);
+    prev_t = t[i];
+    prev_g = g[i];
+  }
+  sum += 0.5 * (prev_g + value_at(t_end)) * (t_end - prev_t);
+  return sum;
+}
+
 double damping::carta_damping_factor(double cm_alpha_loop, double alpha_amp_rad) {
   return -cm_alpha_loop / (kPi * alpha_amp_rad * alpha_amp_rad);
 }
@@ -51,15 +73,23 @@ void DampingStage::run(RunContext& context) {
   const Eigen::VectorXd& cl = s.get<Series>("loads/cl").values;
   if (cm.size() != t.size() || cl.size() != t.size())
     throw std::logic_error("loads/cm_pivot, loads/cl and loads/time_s differ in length");
-  // The angle at the load samples, in radians.
-  Eigen::VectorXd alpha(t.size());
-  if (options_.angle == "fitted") {
-    for (Eigen::Index i = 0; i < t.size(); ++i) alpha[i] = motion.alpha_deg(t[i]);
+  // The angle at the load samples, in radians; with the fitted motion also
+  // the integrands Cm d(alpha)/dt and Cl d(alpha)/dt.
+  const bool fitted = options_.angle == "fitted";
+  Eigen::VectorXd alpha(t.size()), cm_rate(t.size()), cl_rate(t.size());
+  if (fitted) {
+    for (Eigen::Index i = 0; i < t.size(); ++i) {
+      alpha[i] = motion.alpha_deg(t[i]);
+      const double rate = motion.alpha_rate_deg_s(t[i]) * kDegToRad;
+      cm_rate[i] = cm[i] * rate;
+      cl_rate[i] = cl[i] * rate;
+    }
   } else {
     alpha = numerics::interpolate_linear(s.get<Series>("signals/time_s").values,
                                          s.get<Series>("signals/alpha_deg").values, t);
   }
   alpha *= kDegToRad;
+  const std::span<const double> ts(t.data(), static_cast<std::size_t>(t.size()));
   const double amp_rad = motion.alpha_amp_deg * kDegToRad;
 
   const auto& index = cycles.integers("cycle");
@@ -85,8 +115,20 @@ void DampingStage::run(RunContext& context) {
     }
     samples[c] = static_cast<std::int64_t>(a.size());
     if (a.size() < 8) continue;  // no loop to speak of
-    work[c] = damping::loop_integral(a, m);
-    lift[c] = damping::loop_integral(a, l);
+    if (fitted) {
+      // Only whole cycles of finite loads: a gap would bias the time integral.
+      if (a.size() != static_cast<std::size_t>(last - first) || first == 0 || last >= t.size() ||
+          !std::isfinite(cm[first - 1] + cm[last] + cl[first - 1] + cl[last]))
+        continue;
+      const auto from = static_cast<std::size_t>(first - 1), count = static_cast<std::size_t>(last - first + 2);
+      work[c] = damping::time_integral(ts.subspan(from, count), std::span<const double>(cm_rate.data() + from, count),
+                                       t0[c], t1[c]);
+      lift[c] = damping::time_integral(ts.subspan(from, count), std::span<const double>(cl_rate.data() + from, count),
+                                       t0[c], t1[c]);
+    } else {
+      work[c] = damping::loop_integral(a, m);
+      lift[c] = damping::loop_integral(a, l);
+    }
     xi[c] = damping::carta_damping_factor(work[c], amp_rad);
     negative[c] = xi[c] < 0 ? 1 : 0;
     if (valid[c]) used_xi.push_back(xi[c]);

@@ -43,6 +43,27 @@ theory::Naca4Section section_of(const std::string& airfoil, const std::string& w
   return theory::parse_naca4(digits, false, where);
 }
 
+// The local scale of a `stallscope calib piv-target` file; recorded in provenance.
+double calibration_scale(RunContext& context, const std::filesystem::path& file) {
+  const std::string name = file.string();
+  toml::table t;
+  try {
+    t = toml::parse_file(name);
+  } catch (const toml::parse_error& e) {
+    throw InputError(name + ":" + std::to_string(e.source().begin.line), std::string(e.description()));
+  } catch (const std::exception&) {
+    throw InputError(name, "PIV calibration file cannot be read");
+  }
+  if (t["kind"].value_or(std::string()) != "piv_target")
+    throw InputError(name, "expected kind = \"piv_target\" (a file written by `stallscope calib piv-target`)");
+  const std::string id = t["id"].value_or(std::string());
+  const double scale = t["mapping"]["metres_per_pixel"].value_or(0.0);
+  if (id.empty()) throw InputError(name, "expected a text id");
+  if (!(scale > 0)) throw InputError(name, "expected [mapping] metres_per_pixel > 0");
+  context.calibration_used(id, file);
+  return scale;
+}
+
 struct FrameResult {
   piv::ValidationCounts counts;
   double noise = kNaN, threshold = kNaN;
@@ -59,7 +80,11 @@ void PivStage::configure(ConfigSection& s) {
   o.file = s.path("file");
   where_units_ = s.where("text_units");
   o.text_units = s.choice("text_units", {"m/s", "px/frame"}, o.text_units);
+  where_calibration_ = s.where("calibration");
+  o.calibration = s.optional_path("calibration");
   o.metres_per_pixel = s.number("metres_per_pixel", o.metres_per_pixel);
+  s.require(!(o.calibration && o.metres_per_pixel > 0), "metres_per_pixel",
+            "give either a calibration file or metres_per_pixel, not both");
   s.require(o.metres_per_pixel >= 0, "metres_per_pixel", "expected a scale in m/px, > 0 (0: not given)");
   o.pulse_separation_s = s.number("pulse_separation_s", o.pulse_separation_s);
   s.require(o.pulse_separation_s >= 0, "pulse_separation_s", "expected the laser pulse separation in s, > 0");
@@ -138,16 +163,19 @@ void PivStage::run(RunContext& context) {
   const std::size_t frames = source->frames();
 
   // Velocity scale to m/s and the median test's epsilon in those units.
+  const double metres_per_pixel = o.calibration ? calibration_scale(context, *o.calibration) : o.metres_per_pixel;
   double to_m_s = 1.0;
   if (source->units() == "px/frame") {
-    if (!(o.metres_per_pixel > 0 && o.pulse_separation_s > 0))
+    if (!(metres_per_pixel > 0 && o.pulse_separation_s > 0))
       throw InputError(where_file_, source->source() + " is in px/frame: set metres_per_pixel and pulse_separation_s");
-    to_m_s = o.metres_per_pixel / o.pulse_separation_s;
+    to_m_s = metres_per_pixel / o.pulse_separation_s;
   }
   piv::MedianTestOptions median{o.median_threshold, 0.0, static_cast<int>(o.median_min_neighbours)};
   if (o.median_epsilon_m_s > 0) median.epsilon = o.median_epsilon_m_s;
-  else if (o.metres_per_pixel > 0 && o.pulse_separation_s > 0)
-    median.epsilon = o.median_epsilon_px * o.metres_per_pixel / o.pulse_separation_s;
+  else if (source->units() == "px/frame")
+    median.epsilon = o.median_epsilon_px * to_m_s;
+  else if (metres_per_pixel > 0 && o.pulse_separation_s > 0)
+    median.epsilon = o.median_epsilon_px * metres_per_pixel / o.pulse_separation_s;
   else if (source->units() == "m/s" && o.median_epsilon_px > 0)
     throw InputError(where_file_, source->source() + " is in m/s: the median test's epsilon (" +
                                       std::to_string(o.median_epsilon_px) +

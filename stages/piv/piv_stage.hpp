@@ -7,6 +7,7 @@
 // The small per-frame and per-detection tables it writes are what the
 // [vortex] stage tracks.
 #include <filesystem>
+#include <optional>
 #include <string>
 
 #include "pipeline/stage.hpp"
@@ -22,6 +23,7 @@ class PivStage final : public Stage {
   struct Options {
     std::filesystem::path file;                  // HDF5 stack or folder of text frames (required)
     std::string text_units = "m/s";              // text frames carry no units: m/s | px/frame
+    std::optional<std::filesystem::path> calibration;  // `stallscope calib piv-target` file: gives metres_per_pixel
     double metres_per_pixel = 0;                 // needed for px/frame (0: not given)
     double pulse_separation_s = 0;               // laser pulse separation, needed for px/frame
     std::int64_t chunk_frames = 64;              // frames in memory at once
@@ -58,7 +60,7 @@ class PivStage final : public Stage {
 
  private:
   Options options_;
-  std::string where_file_, where_units_, where_sync_, where_airfoil_;
+  std::string where_file_, where_units_, where_sync_, where_airfoil_, where_calibration_;
 };
 
 }  // namespace stallscope

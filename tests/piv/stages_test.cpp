@@ -36,7 +36,8 @@ struct PivRun {
   Provenance provenance = Provenance::start("test");
   Progress progress{Progress::Mode::kQuiet};
 
-  PivRun() {
+  // to_px > 0: the stack is written in px/frame, velocity x to_px.
+  explicit PivRun(double to_px = 0) {
     const piv::Grid g = piv::testing::uniform_grid(-0.02, 0.28, -0.04, 0.10, 0.0025);
     const piv::AirfoilPlacement placement{kChord, 0.25, 0.05, 0.0, 0.0};
     const std::size_t n = g.size();
@@ -51,13 +52,15 @@ struct PivRun {
       const theory::LambOseenVortex vortex{x, y, gamma, 0.04 * kChord};
       const piv::Frame f = piv::testing::vortex_frame(g, {vortex}, kU, 0.01 * kU, 50 + k);
       for (std::size_t p = 0; p < n; ++p) {
-        u[k * n + p] = k == kEmptyFrame ? std::nanf("") : f.u[p];
-        v[k * n + p] = k == kEmptyFrame ? std::nanf("") : f.v[p];
+        const float scale = to_px > 0 ? static_cast<float>(to_px) : 1.0f;
+        u[k * n + p] = k == kEmptyFrame ? std::nanf("") : f.u[p] * scale;
+        v[k * n + p] = k == kEmptyFrame ? std::nanf("") : f.v[p] * scale;
       }
     }
     h5::File file = h5::File::create(dir / "piv.h5");
-    h5::write_floats(file.id(), "piv/u", u.data(), {kFrames, g.ny(), g.nx()}, "m/s");
-    h5::write_floats(file.id(), "piv/v", v.data(), {kFrames, g.ny(), g.nx()}, "m/s");
+    const std::string units = to_px > 0 ? "px/frame" : "m/s";
+    h5::write_floats(file.id(), "piv/u", u.data(), {kFrames, g.ny(), g.nx()}, units);
+    h5::write_floats(file.id(), "piv/v", v.data(), {kFrames, g.ny(), g.nx()}, units);
     h5::write_numbers(file.id(), "piv/x_m", g.x_m.data(), {g.nx()}, "m");
     h5::write_numbers(file.id(), "piv/y_m", g.y_m.data(), {g.ny()}, "m");
     h5::write_numbers(file.id(), "piv/time_s", camera.data(), {camera.size()}, "s");
@@ -172,6 +175,25 @@ TEST(PivStage, GivesTheSameDetectionsOnOneAndTwoThreads) {
   EXPECT_EQ(a.integers("frame"), b.integers("frame"));
   EXPECT_EQ(a.numbers("x_over_c"), b.numbers("x_over_c"));
   EXPECT_EQ(a.numbers("circulation"), b.numbers("circulation"));
+}
+
+TEST(PivStage, ScalesPixelDisplacementsByTheTargetCalibration) {
+  // 25 um/px and 50 us between pulses: 1 m/s is 2 px/frame.
+  PivRun metres, pixels(2.0);
+  metres.run_stage<PivStage>(kConfig, "piv", 2);
+  pixels.dir.write("target.toml", "id = \"sheet-A\"\nkind = \"piv_target\"\n[mapping]\nmetres_per_pixel = 25e-6\n");
+  pixels.run_stage<PivStage>("[piv]\nfile = \"piv.h5\"\npivot_x_m = 0.05\npivot_y_m = 0.0\n"
+                             "calibration = \"target.toml\"\npulse_separation_s = 50e-6\n",
+                             "piv", 2);
+  // The default epsilon, 0.1 px, is 0.05 m/s here, as in the m/s run; x2 then x0.5 is exact
+  // in floating point, so the detections are identical.
+  const Table &a = metres.store.get<Table>("piv/detections"), &b = pixels.store.get<Table>("piv/detections");
+  ASSERT_GT(a.rows(), 0u);
+  EXPECT_EQ(pixels.store.get<Text>("piv/velocity_units").value, "px/frame");
+  EXPECT_EQ(a.numbers("x_over_c"), b.numbers("x_over_c"));
+  EXPECT_EQ(a.numbers("circulation"), b.numbers("circulation"));
+  ASSERT_EQ(pixels.provenance.calibrations.size(), 1u);
+  EXPECT_EQ(pixels.provenance.calibrations[0].id, "sheet-A");
 }
 
 TEST(PivStage, RejectsFramesThatAllLieOutsideTheDaqRecord) {

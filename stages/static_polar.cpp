@@ -113,11 +113,12 @@ void StaticPolarStage::configure(ConfigSection& s) {
 void StaticPolarStage::run(RunContext& context) {
   RunStore& s = context.store();
   const std::string motion = s.get<Text>("run/motion").value;
-  const Table& plateaus = s.get<Table>("motion/plateaus");
-  if (motion != "staircase" || plateaus.rows() < 3)
+  const std::size_t steps = s.contains("motion/plateaus") ? s.get<Table>("motion/plateaus").rows() : 0;
+  if (motion != "staircase" || steps < 3)
     throw InputError("[static_polar]", "needs a staircase of at least 3 steady angles, but the run's motion is '" +
-                                           motion + "' with " + std::to_string(plateaus.rows()) +
+                                           motion + "' with " + std::to_string(steps) +
                                            " plateau(s) (disable [static_polar] for this run)");
+  const Table& plateaus = s.get<Table>("motion/plateaus");
   const Eigen::VectorXd& t = s.get<Series>("loads/time_s").values;
   const Eigen::VectorXd& cl = s.get<Series>("loads/cl").values;
   const Eigen::VectorXd& cn = s.get<Series>("loads/cn").values;

@@ -5,7 +5,9 @@
 #include <algorithm>
 #include <cmath>
 #include <fmt/format.h>
+#include <map>
 #include <mutex>
+#include <optional>
 #include <numbers>
 #include <stdexcept>
 
@@ -176,7 +178,7 @@ void TubingStage::run(RunContext& context) {
   // Each tap's response.
   const std::size_t nt = taps.taps.size();
   std::vector<tubing::Response> response(nt);
-  std::vector<std::string> model(nt);
+  std::vector<std::string> model(nt), key(nt);  // taps with the same key share one line
   for (std::size_t i = 0; i < nt; ++i) {
     const calib::Tap& tap = taps.taps[i];
     if (!tap.line.empty()) {
@@ -193,10 +195,12 @@ void TubingStage::run(RunContext& context) {
         const calib::MeasuredResponse* r = &m->second;
         response[i] = [r](double f) { return f <= r->max_frequency_hz() ? r->at(f) : std::complex<double>(1e-300, 0); };
         model[i] = "measured";
+        key[i] = "line:" + tap.line;
       } else {
         std::vector<calib::TubeSegment> segments = d.segments;
         response[i] = [segments, air](double f) { return calib::line_response(segments, air, f); };
         model[i] = segments.size() == 1 ? "one_segment" : "series";
+        key[i] = "line:" + tap.line;
       }
     } else if (std::isfinite(tap.tube_length_m) && tap.tube_length_m > 0) {
       if (!(std::isfinite(tap.tube_diameter_m) && tap.tube_diameter_m > 0))
@@ -205,30 +209,40 @@ void TubingStage::run(RunContext& context) {
                                    std::isfinite(tap.volume_m3) ? tap.volume_m3 : 0.0};
       response[i] = [seg, air](double f) { return calib::tube_response(seg, air, f); };
       model[i] = "one_segment";
+      key[i] = fmt::format("tube:{:.17g}:{:.17g}:{:.17g}", seg.length, seg.radius, seg.end_volume);
     } else {
       model[i] = "none";
     }
   }
 
+  // Bandwidth, cut-off and the inverse per distinct line (taps usually share a few).
   const double nyquist = 0.5 * rate;
   std::vector<double> bandwidth(nt, nyquist), cutoff(nt, nyquist);
-  for (std::size_t i = 0; i < nt; ++i) {
-    if (model[i] == "none") continue;
-    bandwidth[i] = tubing::usable_bandwidth(response[i], options_.min_gain, nyquist);
-    cutoff[i] = options_.cutoff_hz > 0 ? std::min(options_.cutoff_hz, bandwidth[i]) : bandwidth[i];
-  }
-
   Matrix corrected{raw.values, "Pa", raw.columns};
   const Eigen::Index n = raw.values.rows();
-  if (n >= 2) {
-    tubing::SpectralFilter filter(static_cast<int>(n));
+  std::optional<tubing::SpectralFilter> filter;
+  if (n >= 2) filter.emplace(static_cast<int>(n));
+  std::map<std::string, std::vector<std::complex<double>>> gains;
+  for (std::size_t i = 0; i < nt; ++i) {
+    if (model[i] == "none") continue;
+    const std::size_t first = static_cast<std::size_t>(std::find(key.begin(), key.end(), key[i]) - key.begin());
+    if (first < i) {
+      bandwidth[i] = bandwidth[first];
+      cutoff[i] = cutoff[first];
+      continue;
+    }
+    bandwidth[i] = tubing::usable_bandwidth(response[i], options_.min_gain, nyquist, 500);
+    cutoff[i] = options_.cutoff_hz > 0 ? std::min(options_.cutoff_hz, bandwidth[i]) : bandwidth[i];
+    if (filter)
+      gains[key[i]] = tubing::bin_gains(*filter, rate, response[i], cutoff[i], 2048, true, cutoff[i], options_.taper_fraction);
+  }
+  if (filter) {
     const int count = static_cast<int>(nt);
 #pragma omp parallel for num_threads(context.threads()) schedule(dynamic)
     for (int i = 0; i < count; ++i) {
       const auto k = static_cast<std::size_t>(i);
       if (model[k] == "none") continue;
-      auto gains = tubing::bin_gains(filter, rate, response[k], cutoff[k], 2048, true, cutoff[k], options_.taper_fraction);
-      corrected.values.col(i) = filter.run(raw.values.col(i), gains);
+      corrected.values.col(i) = filter->run(raw.values.col(i), gains.at(key[k]));
     }
   }
 

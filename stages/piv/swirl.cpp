@@ -10,22 +10,32 @@ namespace {
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 
-// d/ds of f at the middle of three points s0 < s1 < s2 (or decreasing), the
-// Lagrange three-point formula: second order on uneven spacing.
-double three_point(double fm, double f0, double fp, double sm, double s0, double sp) {
-  const double h1 = s0 - sm, h2 = sp - s0;
-  return (h1 * h1 * fp - h2 * h2 * fm + (h2 * h2 - h1 * h1) * f0) / (h1 * h2 * (h1 + h2));
-}
-
-// Derivative along one grid line at index k, from the valid points around it.
-template <typename Value, typename Ok>
-double line_derivative(std::size_t k, std::size_t n, const std::vector<double>& s, Value value, Ok ok) {
-  const bool has_m = k > 0 && ok(k - 1), has_p = k + 1 < n && ok(k + 1);
-  if (has_m && has_p) return three_point(value(k - 1), value(k), value(k + 1), s[k - 1], s[k], s[k + 1]);
-  if (has_p) return (value(k + 1) - value(k)) / (s[k + 1] - s[k]);
-  if (has_m) return (value(k) - value(k - 1)) / (s[k] - s[k - 1]);
-  return kNaN;
-}
+// Derivative weights along one axis: the Lagrange three-point formula at
+// interior points (second order on uneven spacing), and the two one-sided
+// differences used where a neighbour is missing.
+struct AxisWeights {
+  std::vector<double> minus, centre, plus;  // three-point weights of f[k-1], f[k], f[k+1]
+  std::vector<double> forward;              // 1 / (s[k+1] - s[k])
+  explicit AxisWeights(const std::vector<double>& s)
+      : minus(s.size()), centre(s.size()), plus(s.size()), forward(s.size(), kNaN) {
+    for (std::size_t k = 0; k + 1 < s.size(); ++k) forward[k] = 1.0 / (s[k + 1] - s[k]);
+    for (std::size_t k = 1; k + 1 < s.size(); ++k) {
+      const double h1 = s[k] - s[k - 1], h2 = s[k + 1] - s[k], d = h1 * h2 * (h1 + h2);
+      minus[k] = -h2 * h2 / d;
+      centre[k] = (h2 * h2 - h1 * h1) / d;
+      plus[k] = h1 * h1 / d;
+    }
+  }
+  // d/ds at k of the line f[k0 + k stride], using valid points only.
+  template <typename T>
+  double derivative(const T* f, const std::uint8_t* ok, std::size_t k, std::size_t n, std::size_t stride) const {
+    const bool has_m = k > 0 && ok[(k - 1) * stride], has_p = k + 1 < n && ok[(k + 1) * stride];
+    if (has_m && has_p) return minus[k] * f[(k - 1) * stride] + centre[k] * f[k * stride] + plus[k] * f[(k + 1) * stride];
+    if (has_p) return (f[(k + 1) * stride] - f[k * stride]) * forward[k];
+    if (has_m) return (f[k * stride] - f[(k - 1) * stride]) * forward[k - 1];
+    return kNaN;
+  }
+};
 
 }  // namespace
 
@@ -41,6 +51,7 @@ SwirlField swirl_field(const Grid& grid, const Frame& f, GradientScheme scheme) 
   out.vorticity.assign(n, kNaN);
   out.swirl.assign(n, kNaN);
   auto valid = [&](std::size_t p) { return f.valid[p] != 0; };
+  const AxisWeights wx(grid.x_m), wy(grid.y_m);
   for (std::size_t j = 0; j < ny; ++j)
     for (std::size_t i = 0; i < nx; ++i) {
       const std::size_t p = j * nx + i;
@@ -48,12 +59,10 @@ SwirlField swirl_field(const Grid& grid, const Frame& f, GradientScheme scheme) 
       double ux = kNaN, uy = kNaN, vx = kNaN, vy = kNaN;
       if (scheme == GradientScheme::kCentral) {
         const std::size_t row = j * nx;
-        auto ok_x = [&](std::size_t k) { return valid(row + k); };
-        auto ok_y = [&](std::size_t k) { return valid(k * nx + i); };
-        ux = line_derivative(i, nx, grid.x_m, [&](std::size_t k) { return double(f.u[row + k]); }, ok_x);
-        vx = line_derivative(i, nx, grid.x_m, [&](std::size_t k) { return double(f.v[row + k]); }, ok_x);
-        uy = line_derivative(j, ny, grid.y_m, [&](std::size_t k) { return double(f.u[k * nx + i]); }, ok_y);
-        vy = line_derivative(j, ny, grid.y_m, [&](std::size_t k) { return double(f.v[k * nx + i]); }, ok_y);
+        ux = wx.derivative(f.u.data() + row, f.valid.data() + row, i, nx, 1);
+        vx = wx.derivative(f.v.data() + row, f.valid.data() + row, i, nx, 1);
+        uy = wy.derivative(f.u.data() + i, f.valid.data() + i, j, ny, nx);
+        vy = wy.derivative(f.v.data() + i, f.valid.data() + i, j, ny, nx);
       } else {
         // u ~ a + b dx + c dy over the valid 3x3 neighbourhood (normal equations).
         Eigen::Matrix3d m = Eigen::Matrix3d::Zero();

@@ -1,0 +1,1 @@
+stallscope_bench(bench_piv_vortex piv_vortex_bench.cpp)

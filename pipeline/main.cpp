@@ -7,6 +7,7 @@
 #include <cstdio>
 #include <iostream>
 
+#include "calib/piv/piv_target_command.hpp"
 #include "pipeline/errors.hpp"
 #include "pipeline/inspect.hpp"
 #include "pipeline/reduce.hpp"
@@ -24,6 +25,7 @@ std::string joined_command_line(int argc, char** argv) {
 }
 
 int run(int argc, char** argv) {
+  if (auto code = calib::run_calib_command(argc, argv)) return *code;
   CLI::App app{"stallscope: reduce wind-tunnel data of pitching airfoils in dynamic stall"};
   app.set_version_flag("--version", fmt::format("stallscope {} (commit {})", kToolVersion, kGitCommit));
   app.require_subcommand(1);

@@ -2,6 +2,7 @@
 // mapping (anti-aliased, 4 x 4 sub-samples per pixel), found again by OpenCV
 // and fitted with a homography.
 #include "calib/piv/piv_target.hpp"
+#include "calib/piv/piv_target_command.hpp"
 
 #include <gtest/gtest.h>
 
@@ -114,6 +115,27 @@ TEST(PivTargetCommand, WritesACalibrationFileThatReadsBack) {
   ASSERT_NE(h, nullptr);
   ASSERT_EQ(h->size(), 9u);
   EXPECT_THROW(run_piv_target_command(r, out), InputError);  // exists, no --force
+}
+
+TEST(CalibCommand, RunsPivTargetFromTheCommandLine) {
+  stallscope::testing::ScratchDir dir;
+  PivTarget t;
+  t.spacing_m = 0.001;
+  const std::string image = (dir / "sheet.png").string(), out = (dir / "sheet.toml").string();
+  ASSERT_TRUE(cv::imwrite(image, render(t, true_homography())));
+  std::vector<std::string> words = {"stallscope", "calib", "piv-target", image, "-o", out, "--spacing-m", "0.001"};
+  std::vector<char*> argv;
+  for (auto& w : words) argv.push_back(w.data());
+  EXPECT_EQ(run_calib_command(static_cast<int>(argv.size()), argv.data()), 0);
+  EXPECT_TRUE(std::filesystem::exists(out));
+  std::vector<std::string> other = {"stallscope", "reduce", "x.toml"};
+  std::vector<char*> argv2;
+  for (auto& w : other) argv2.push_back(w.data());
+  EXPECT_FALSE(run_calib_command(static_cast<int>(argv2.size()), argv2.data()).has_value());
+  std::vector<std::string> bad = {"stallscope", "calib", "piv-target", image, "-o", out};  // no spacing
+  std::vector<char*> argv3;
+  for (auto& w : bad) argv3.push_back(w.data());
+  EXPECT_EQ(run_calib_command(static_cast<int>(argv3.size()), argv3.data()), 2);
 }
 
 }  // namespace

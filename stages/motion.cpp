@@ -48,11 +48,43 @@ struct Record {
   double chord = 0, speed = 0;
 };
 
+// Where the model moves: a tunnel record starts and ends with the model at
+// rest (wind-off zeros, settling), which a periodic fit must leave out.
+// Samples [first, last), with the rest levels before and after.
+struct MotionWindow {
+  Eigen::Index first = 0, last = 0;
+  double rest_before = NAN, rest_after = NAN;
+};
+
+MotionWindow motion_window(const Record& r, const MotionStage::Options& o) {
+  MotionWindow w;
+  w.last = r.t.size();
+  const auto plateaus =
+      numerics::find_plateaus(r.t, r.alpha, o.plateau_tolerance_deg, o.plateau_min_duration_s, 0.0);
+  if (plateaus.empty()) return w;
+  const double t0 = r.t[0], t1 = r.t[r.t.size() - 1];
+  const auto& head = plateaus.front();
+  const auto& tail = plateaus.back();
+  if (head.t_start - t0 < o.plateau_min_duration_s && head.t_end < t1) {
+    w.first = head.end;
+    w.rest_before = head.level;
+  }
+  if (t1 - tail.t_end < o.plateau_min_duration_s && tail.t_start > t0 && (plateaus.size() > 1 || w.first == 0)) {
+    w.last = tail.begin;
+    w.rest_after = tail.level;
+  }
+  if (w.last - w.first < 20) return MotionWindow{0, r.t.size(), NAN, NAN};
+  return w;
+}
+
 // --- sine ------------------------------------------------------------------
 
-std::optional<numerics::SinusoidFit> try_sine(const Record& r, const MotionStage::Options& o, Trial& trial) {
+std::optional<numerics::SinusoidFit> try_sine(const Record& r, const MotionWindow& w, const MotionStage::Options& o,
+                                              Trial& trial) {
   try {
-    numerics::SinusoidFit fit = numerics::fit_sinusoid(r.t, r.alpha, static_cast<int>(o.harmonics));
+    numerics::SinusoidFit fit = numerics::fit_sinusoid(r.t.segment(w.first, w.last - w.first),
+                                                       r.alpha.segment(w.first, w.last - w.first),
+                                                       static_cast<int>(o.harmonics));
     const double misfit = fit.rms_residual_fundamental / fit.amplitude;
     trial.fits = misfit <= o.max_residual_fraction;
     trial.why = "a sine at " + num(fit.frequency_hz) + " Hz leaves an rms misfit of " + num(100 * misfit, 3) +
@@ -64,30 +96,38 @@ std::optional<numerics::SinusoidFit> try_sine(const Record& r, const MotionStage
   }
 }
 
-void write_sine(RunStore& s, const Record& r, const numerics::SinusoidFit& fit) {
-  const double f = fit.frequency_hz, omega = 2 * kPi * f;
+void write_sine(RunStore& s, const Record& r, const MotionWindow& w, const numerics::SinusoidFit& fit) {
+  const double f = fit.frequency_hz, omega = 2 * kPi * f, period = 1 / f;
   const Eigen::Index n = r.t.size();
-  // Cycle 0 starts at the first minimum of the fundamental (theta = -pi/2) in the record.
-  const double theta0 = fit.theta(r.t[0]);
-  double lead = std::fmod(-0.5 * kPi - theta0, 2 * kPi);
+  // Cycle 0 starts at the first minimum of the fundamental (theta = -pi/2)
+  // of the motion. The rest band takes in the first and last few degrees of
+  // phase (a sine leaves its minimum slowly), so a cycle may start up to 0.15
+  // of a period before the motion window; one that starts earlier belongs to
+  // the model at rest.
+  const double margin = 0.15 * period;
+  const double t_begin = std::max(r.t[0], r.t[w.first] - (w.first > 0 ? margin : 0.0));
+  const double t_end = std::min(r.t[n - 1], r.t[w.last - 1] + (w.last < n ? margin : 0.0));
+  double lead = std::fmod(-0.5 * kPi - fit.theta(t_begin), 2 * kPi);
   if (lead < 0) lead += 2 * kPi;
   MotionFit m;
   m.freq_hz = f;
   m.alpha_mean_deg = fit.mean;
   m.alpha_amp_deg = fit.amplitude;
   m.sine_phase_rad = fit.phase_rad;
-  m.cycle_origin_s = r.t[0] + lead / omega;
-  m.cycles = static_cast<std::int64_t>(std::floor((r.t[n - 1] - m.cycle_origin_s) * f + 1e-9));
+  m.cycle_origin_s = t_begin + lead / omega;
+  m.cycles = std::max<std::int64_t>(0, static_cast<std::int64_t>(std::floor((t_end - m.cycle_origin_s) * f + 1e-9)));
   for (const auto& h : fit.harmonics) {
     m.harmonic_sin_deg.push_back(h.real());
     m.harmonic_cos_deg.push_back(h.imag());
   }
 
+  // Outside the motion the model rests: its rest level, no rate, no phase.
   Eigen::VectorXd alpha(n), rate(n), phase(n), cycle(n);
   for (Eigen::Index i = 0; i < n; ++i) {
-    alpha[i] = m.alpha_deg(r.t[i]);
-    rate[i] = m.alpha_rate_deg_s(r.t[i]);
-    phase[i] = m.phase_deg(r.t[i]);
+    const bool resting = i < w.first || i >= w.last;
+    alpha[i] = resting ? (i < w.first ? w.rest_before : w.rest_after) : m.alpha_deg(r.t[i]);
+    rate[i] = resting ? 0.0 : m.alpha_rate_deg_s(r.t[i]);
+    phase[i] = resting ? NAN : m.phase_deg(r.t[i]);
     cycle[i] = static_cast<double>(m.cycle(r.t[i]));
   }
   const double k = kPi * f * r.chord / r.speed;
@@ -122,6 +162,8 @@ void write_sine(RunStore& s, const Record& r, const numerics::SinusoidFit& fit) 
       {"sine_phase_rad", fit.phase_rad},
       {"sine_phase_error_deg", fit.phase_error_rad / kDegToRad},
       {"cycle_origin_s", m.cycle_origin_s},
+      {"motion_start_s", r.t[w.first]},
+      {"motion_end_s", r.t[w.last - 1]},
       {"cycles", m.cycles},
       {"residual_deg", fit.rms_residual},
       {"residual_fundamental_deg", fit.rms_residual_fundamental},
@@ -132,7 +174,8 @@ void write_sine(RunStore& s, const Record& r, const numerics::SinusoidFit& fit) 
   s.put("motion/fit", std::move(table), std::move(attrs));
   s.put("motion/alpha_deg", Series{std::move(alpha), "deg"}, {{"source", std::string("fitted motion")}});
   s.put("motion/alpha_rate_deg_s", Series{std::move(rate), "deg/s"}, {{"source", std::string("fitted motion")}});
-  s.put("motion/phase_deg", Series{std::move(phase), "deg"}, {{"phase_origin", std::string(kPhaseOrigin)}});
+  s.put("motion/phase_deg", Series{std::move(phase), "deg"},
+        {{"phase_origin", std::string(kPhaseOrigin)}, {"note", std::string("NaN while the model rests")}});
   s.put("motion/cycle", Series{std::move(cycle), "1"},
         {{"note", std::string("cycle 0 is the first complete cycle; -1 outside complete cycles")}});
   s.put("run/motion", Text{"sine"});
@@ -421,8 +464,9 @@ void MotionStage::run(RunContext& context) {
   }
   if (type == "sine" || type == "auto") {
     Trial trial;
-    auto fit = try_sine(r, options_, trial);
-    if (trial.fits) return write_sine(s, r, *fit);
+    const MotionWindow window = motion_window(r, options_);
+    auto fit = try_sine(r, window, options_, trial);
+    if (trial.fits) return write_sine(s, r, window, *fit);
     reasons.push_back(trial.why);
   }
   if (type == "staircase" || type == "auto") {

@@ -75,7 +75,13 @@ std::vector<Plateau> find_plateaus(const Eigen::VectorXd& t, const Eigen::Vector
     }
     Eigen::Index j = i;
     while (j < n && range[j] <= 2 * tolerance) ++j;
-    if (t[j - 1] - t[i] >= min_duration) runs.emplace_back(i, j);
+    // Locally steady is not enough: a slow drift is steady over any short
+    // window. The whole stretch must stay within the band.
+    if (t[j - 1] - t[i] >= min_duration) {
+      std::vector<double> v(clean.data() + i, clean.data() + j);
+      const double spread = percentile(v, 0.99) - percentile(v, 0.01);
+      if (spread <= 2 * tolerance) runs.emplace_back(i, j);
+    }
     i = j;
   }
   std::vector<Plateau> found;
@@ -83,7 +89,8 @@ std::vector<Plateau> find_plateaus(const Eigen::VectorXd& t, const Eigen::Vector
     Plateau p = summarise(t, clean, first, last, settle);
     // A short disturbance splits one plateau in two: join them again.
     // The disturbance itself stays out of the average.
-    if (!found.empty() && std::abs(found.back().level - p.level) <= tolerance) {
+    if (!found.empty() && std::abs(found.back().level - p.level) <= tolerance &&
+        t[first] - found.back().t_end < min_duration) {
       Plateau& q = found.back();
       std::vector<double> v(clean.data() + q.begin, clean.data() + q.end);
       v.insert(v.end(), clean.data() + first, clean.data() + last);

@@ -7,16 +7,18 @@
 namespace stallscope::numerics {
 
 struct Plateau {
-  Eigen::Index begin = 0, end = 0;  // samples [begin, end) averaged (after the settling time)
+  Eigen::Index begin = 0, end = 0;  // the plateau's samples after the settling time
   double t_start = 0, t_end = 0;    // the steady stretch, settling time included
-  double level = 0, std = 0;        // mean and sample std over [begin, end)
+  double level = 0, std = 0;        // mean and sample std of its steady samples
 };
 
 // Stretches at least min_duration long in which y stays within +- tolerance
 // of its level. A sample counts as steady when the range of y over a window of
-// a tenth of min_duration about it is at most 2 tolerance; neighbouring
-// stretches at the same level (within tolerance) are merged. Non-finite samples
-// are never steady. t must be increasing.
+// a tenth of min_duration about it is at most 2 tolerance, and the whole
+// stretch spans at most 2 tolerance (1st to 99th percentile). Two stretches at
+// the same level (within tolerance) split by a disturbance shorter than
+// min_duration are one plateau, the disturbance left out of its level.
+// Non-finite samples are never steady. t must be increasing.
 std::vector<Plateau> find_plateaus(const Eigen::VectorXd& t, const Eigen::VectorXd& y, double tolerance,
                                    double min_duration, double settle = 0);
 

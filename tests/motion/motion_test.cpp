@@ -185,7 +185,7 @@ TEST(MotionStage, SaysWhichForcedTypeDoesNotFitAndWhy) {
     const std::string what = e.what();
     EXPECT_NE(what.find("run.toml:2"), std::string::npos) << what;  // the type key's line
     EXPECT_NE(what.find("type = \"sine\" does not fit"), std::string::npos) << what;
-    EXPECT_NE(what.find("misfit"), std::string::npos) << what;
+    EXPECT_NE(what.find("sine"), std::string::npos) << what;
   }
 }
 
@@ -227,6 +227,58 @@ TEST(MotionStage, RejectsOptionsOutOfRange) {
   EXPECT_THROW(Harness::configure(stage, "harmonics = 0\n"), InputError);
   EXPECT_THROW(Harness::configure(stage, "max_residual_fraction = 1.5\n"), InputError);
   EXPECT_THROW(Harness::configure(stage, "plateau_settle_s = 2\nplateau_min_duration_s = 1\n"), InputError);
+}
+
+}  // namespace
+}  // namespace stallscope
+
+namespace stallscope {
+namespace {
+
+// A tunnel record: the model rests at the minimum angle for 3 s (wind-off
+// zeros, settling), pitches 6 cycles from the minimum, and rests again.
+TEST(MotionStage, LeavesTheRestAtBothEndsOutOfThePeriodicFit) {
+  Harness h;
+  testing::put_conditions(h.store, 0.3, 20);
+  const double f = 1.5, a0 = 12, a1 = 6, rest = 3.0, motion = 6 / f;
+  const Eigen::VectorXd t = testing::time_base(0, 1000, 2 * rest + motion);
+  Eigen::VectorXd a(t.size());
+  std::mt19937 gen(2);
+  std::normal_distribution<double> noise(0.0, 0.02);
+  for (Eigen::Index i = 0; i < t.size(); ++i) {
+    const double tau = t[i] - rest;
+    a[i] = (tau < 0 || tau >= motion ? a0 - a1 : a0 - a1 * std::cos(2 * kPi * f * tau)) + noise(gen);
+  }
+  h.store.put("signals/time_s", Series{t, "s"});
+  h.store.put("signals/alpha_deg", Series{a, "deg"});
+  MotionStage stage;
+  h.run(stage);
+  ASSERT_EQ(h.store.get<Text>("run/motion").value, "sine");
+  const MotionFit m = MotionFit::from_store(h.store, "test");
+  EXPECT_NEAR(m.freq_hz, f, 1e-4);
+  EXPECT_NEAR(m.alpha_amp_deg, a1, 0.01);
+  // All six cycles, from the motion's start at the minimum angle.
+  EXPECT_EQ(m.cycles, 6);
+  EXPECT_NEAR(m.cycle_origin_s, rest, 1e-3);
+  const Eigen::VectorXd& phase = h.store.get<Series>("motion/phase_deg").values;
+  EXPECT_TRUE(std::isnan(phase[100]));  // at rest
+  EXPECT_EQ(h.store.get<Series>("motion/alpha_rate_deg_s").values[100], 0.0);
+  EXPECT_NEAR(h.store.get<Series>("motion/alpha_deg").values[100], a0 - a1, 0.01);
+}
+
+TEST(MotionStage, FitsASlowSineWhoseEveryShortWindowLooksSteady) {
+  Harness h;
+  SineRun r;
+  r.freq_hz = 0.2;
+  r.amp_deg = 2;
+  r.duration_s = 20;
+  r.rate_hz = 200;
+  r.noise_deg = 0.02;
+  testing::put_sine_run(h.store, r);
+  MotionStage stage;
+  h.run(stage);
+  EXPECT_EQ(h.store.get<Text>("run/motion").value, "sine");
+  EXPECT_NEAR(h.store.get<Scalar>("run/freq_hz").value, 0.2, 1e-4);
 }
 
 }  // namespace

@@ -70,13 +70,19 @@ void VortexStage::configure(ConfigSection& s) {
             "convection_window_x_over_c", "expected [x_start, x_end] in chords, increasing");
   o.te_x_over_c = s.number("te_x_over_c", o.te_x_over_c);
   s.require(o.te_x_over_c > 0, "te_x_over_c", "expected the trailing edge position in chords, > 0");
+  o.mode = s.choice("mode", {"time_resolved", "phase_locked"}, o.mode);
+  o.phase_bin_deg = s.number("phase_bin_deg", o.phase_bin_deg);
+  s.require(o.phase_bin_deg > 0 && o.phase_bin_deg <= 90, "phase_bin_deg", "expected a bin width in degrees, 0 to 90");
   o.plausible_speed = s.numbers("plausible_speed", o.plausible_speed);
   s.require(o.plausible_speed.size() == 2 && o.plausible_speed[0] < o.plausible_speed[1], "plausible_speed",
             "expected [low, high] in units of U");
 }
 
 std::vector<std::string> VortexStage::inputs() const {
-  return {"piv/detections", "piv/frames", "piv/grid_x_m", "piv/grid_y_m", "run/chord_m", "run/U_inf_m_s"};
+  std::vector<std::string> in = {"piv/detections", "piv/frames", "piv/grid_x_m", "piv/grid_y_m", "run/chord_m",
+                                 "run/U_inf_m_s"};
+  if (options_.mode == "phase_locked") in.insert(in.end(), {"signals/time_s", "motion/phase_deg"});
+  return in;
 }
 
 std::vector<std::string> VortexStage::optional_inputs() const {
@@ -84,10 +90,82 @@ std::vector<std::string> VortexStage::optional_inputs() const {
 }
 
 std::vector<std::string> VortexStage::outputs() const {
+  if (options_.mode == "phase_locked") return {"vortex/phase_locked"};
   return {"vortex/tracks", "vortex/per_track", "vortex/events_per_cycle"};
 }
 
+void VortexStage::run_phase_locked(RunContext& context) {
+  const Options& o = options_;
+  RunStore& store = context.store();
+  const Table& det = store.get<Table>("piv/detections");
+  const Table& frames = store.get<Table>("piv/frames");
+  const Eigen::VectorXd& t = store.get<Series>("signals/time_s").values;
+  const Eigen::VectorXd& phase = store.get<Series>("motion/phase_deg").values;
+  // The LE vortex of each searched snapshot: the strongest detection of the
+  // LE sign on the suction side.
+  std::map<std::int64_t, std::size_t> strongest;
+  const auto &fr = det.integers("frame"), &sg = det.integers("sign");
+  const auto &yc = det.numbers("y_over_c"), &circ = det.numbers("circulation");
+  for (std::size_t k = 0; k < det.rows(); ++k) {
+    if (sg[k] != o.le_sign || yc[k] < 0) continue;
+    auto it = strongest.find(fr[k]);
+    if (it == strongest.end() || std::abs(circ[k]) > std::abs(circ[it->second])) strongest[fr[k]] = k;
+  }
+  const auto bins = static_cast<std::size_t>(std::ceil(360.0 / o.phase_bin_deg));
+  struct Sums {
+    std::int64_t snapshots = 0, n = 0;
+    double x = 0, xx = 0, y = 0, yy = 0, c = 0, cc = 0, p = 0;
+  };
+  std::vector<Sums> sums(bins);
+  const auto &frame_no = frames.integers("frame");
+  const auto &status = frames.texts("status");
+  const auto &frame_t = frames.numbers("t_s");
+  const auto &xc = det.numbers("x_over_c"), &peak = det.numbers("peak_swirl");
+  for (std::size_t k = 0; k < frame_no.size(); ++k) {
+    if (status[k] == "flagged") continue;
+    const double ph = interpolate(t, phase, frame_t[k], true);
+    if (!std::isfinite(ph)) continue;
+    Sums& b = sums[std::min(bins - 1, static_cast<std::size_t>(ph / o.phase_bin_deg))];
+    ++b.snapshots;
+    auto it = strongest.find(frame_no[k]);
+    if (it == strongest.end()) continue;
+    const std::size_t d = it->second;
+    ++b.n;
+    b.x += xc[d], b.xx += xc[d] * xc[d], b.y += yc[d], b.yy += yc[d] * yc[d];
+    b.c += circ[d], b.cc += circ[d] * circ[d], b.p += peak[d];
+  }
+  std::vector<double> centre, x, xs, y, ys, c, cs, p;
+  std::vector<std::int64_t> snapshots, n;
+  auto sd = [](double s, double ss, std::int64_t m) {
+    return m > 1 ? std::sqrt(std::max(0.0, (ss - s * s / m) / (m - 1))) : kNaN;
+  };
+  for (std::size_t b = 0; b < bins; ++b) {
+    const Sums& s = sums[b];
+    if (s.snapshots == 0) continue;
+    centre.push_back((b + 0.5) * o.phase_bin_deg);
+    snapshots.push_back(s.snapshots);
+    n.push_back(s.n);
+    const double m = static_cast<double>(s.n);
+    x.push_back(s.n ? s.x / m : kNaN);
+    xs.push_back(sd(s.x, s.xx, s.n));
+    y.push_back(s.n ? s.y / m : kNaN);
+    ys.push_back(sd(s.y, s.yy, s.n));
+    c.push_back(s.n ? s.c / m : kNaN);
+    cs.push_back(sd(s.c, s.cc, s.n));
+    p.push_back(s.n ? s.p / m : kNaN);
+  }
+  Table out;
+  out.add({"phase_deg", "deg", centre}).add({"snapshots", "1", snapshots}).add({"detected", "1", n})
+      .add({"x_over_c", "1", x}).add({"x_over_c_std", "1", xs}).add({"y_over_c", "1", y}).add({"y_over_c_std", "1", ys})
+      .add({"circulation", "1", c}).add({"circulation_std", "1", cs}).add({"peak_swirl", "1", p});
+  store.put("vortex/phase_locked", std::move(out),
+            {{"phase_origin", std::string("cycle start at minimum angle (motion/phase_deg)")},
+             {"normalised_by", std::string("circulation by U_inf c, peak_swirl by U_inf/c")},
+             {"phase_bin_deg", o.phase_bin_deg}});
+}
+
 void VortexStage::run(RunContext& context) {
+  if (options_.mode == "phase_locked") return run_phase_locked(context);
   const Options& o = options_;
   RunStore& store = context.store();
   const double chord = store.get<Scalar>("run/chord_m").value, speed = store.get<Scalar>("run/U_inf_m_s").value;

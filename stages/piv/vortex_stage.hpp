@@ -4,7 +4,8 @@
 // vortex (its sign and a birth near the leading edge), when it was first
 // seen, when it detached (the end of its circulation growth, or the eruption
 // of the opposite-sign secondary vortex beneath it, whichever is first), when
-// it passed the trailing edge, and how fast it convected.
+// it passed the trailing edge, and how fast it convected. Phase-locked PIV
+// (mode = "phase_locked") is averaged per phase instead.
 #include <string>
 
 #include "pipeline/stage.hpp"
@@ -27,6 +28,10 @@ class VortexStage final : public Stage {
     std::vector<double> convection_window_x_over_c = {0.2, 1.0};  // positions fitted for the convection speed
     double te_x_over_c = 1.0;
     std::vector<double> plausible_speed = {0.1, 0.7};  // U; outside: suspect (McCroskey 1981, a bound only)
+    // phase_locked: a few snapshots per cycle at set phases; no tracking, the
+    // LE vortex of each snapshot averaged per phase bin into vortex/phase_locked.
+    std::string mode = "time_resolved";       // time_resolved | phase_locked
+    double phase_bin_deg = 5.0;
   };
 
   std::string_view name() const override { return kName; }
@@ -38,6 +43,7 @@ class VortexStage final : public Stage {
   void run(RunContext& context) override;
 
  private:
+  void run_phase_locked(RunContext& context);
   Options options_;
 };
 

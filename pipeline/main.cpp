@@ -8,6 +8,7 @@
 #include <iostream>
 
 #include "calib/piv/piv_target_command.hpp"
+#include "calib/transducers/transducer_command.hpp"
 #include "pipeline/errors.hpp"
 #include "pipeline/inspect.hpp"
 #include "pipeline/reduce.hpp"
@@ -25,6 +26,7 @@ std::string joined_command_line(int argc, char** argv) {
 }
 
 int run(int argc, char** argv) {
+  if (auto code = calib::run_transducer_command(argc, argv)) return *code;
   if (auto code = calib::run_calib_command(argc, argv)) return *code;
   CLI::App app{"stallscope: reduce wind-tunnel data of pitching airfoils in dynamic stall"};
   app.set_version_flag("--version", fmt::format("stallscope {} (commit {})", kToolVersion, kGitCommit));

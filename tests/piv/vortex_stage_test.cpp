@@ -1,0 +1,87 @@
+// The [vortex] stage on hand-made detections: detachment by the eruption of a
+// secondary vortex beneath the LE vortex, and a trailing-edge passage that is
+// missing because the vortex left the field of view first.
+#include <gtest/gtest.h>
+
+#include <cmath>
+
+#include "pipeline/config.hpp"
+#include "pipeline/progress.hpp"
+#include "pipeline/provenance.hpp"
+#include "stages/piv/vortex_stage.hpp"
+
+namespace stallscope {
+namespace {
+
+constexpr double kChord = 0.2, kU = 10.0, kDt = 1e-3;
+
+struct Detections {
+  std::vector<std::int64_t> frame, sign, cells;
+  std::vector<double> t, xm, ym, xc, yc, circ, peak, radius, sens;
+  void add(int f, int s, double x, double y, double g) {
+    frame.push_back(f), sign.push_back(s), cells.push_back(30), t.push_back(f * kDt);
+    xm.push_back(x * kChord), ym.push_back(y * kChord), xc.push_back(x), yc.push_back(y);
+    circ.push_back(g), peak.push_back(5), radius.push_back(0.03), sens.push_back(0.1);
+  }
+  Table table() const {
+    Table d;
+    d.add({"frame", "1", frame}).add({"t_s", "s", t}).add({"sign", "1", sign}).add({"x_m", "m", xm})
+        .add({"y_m", "m", ym}).add({"x_over_c", "1", xc}).add({"y_over_c", "1", yc}).add({"circulation", "1", circ})
+        .add({"peak_swirl", "1", peak}).add({"radius_over_c", "1", radius}).add({"circulation_sensitivity", "1", sens})
+        .add({"cells", "1", cells});
+    return d;
+  }
+};
+
+TEST(VortexStage, DetachesAtTheSecondaryEruptionAndSaysWhyTheTrailingEdgeWasNotReached) {
+  constexpr int kFrames = 70;
+  Detections d;
+  for (int f = 0; f < kFrames; ++f) {
+    // LE vortex: grows until frame 15, then convects at 0.3 U (0.015 c per frame).
+    const double x = 0.15 + (f > 15 ? 0.3 * kU * kDt / kChord * (f - 15) : 0.0);
+    if (x * kChord < 0.146) d.add(f, -1, x, 0.12, -0.05 * std::min(f, 15) - 0.1);
+    // Secondary vortex erupting beneath it from frame 10.
+    if (f >= 10 && f < 18) d.add(f, +1, 0.16, 0.05, 0.2);
+  }
+  std::vector<std::int64_t> frame;
+  std::vector<double> t;
+  std::vector<std::string> status;
+  for (int f = 0; f < kFrames; ++f) frame.push_back(f), t.push_back(f * kDt), status.push_back("ok");
+  Table frames;
+  frames.add({"frame", "1", frame}).add({"t_s", "s", t}).add({"status", "", status});
+  RunStore store;
+  store.put("piv/frames", frames);
+  store.put("piv/detections", d.table());
+  // The field of view ends at x = 0.15 m (x/c = 0.75).
+  store.put("piv/grid_x_m", Series{Eigen::VectorXd::LinSpaced(61, 0.0, 0.15), "m"});
+  store.put("piv/grid_y_m", Series{Eigen::VectorXd::LinSpaced(41, -0.05, 0.05), "m"});
+  store.put("run/chord_m", Scalar{kChord, "m"});
+  store.put("run/U_inf_m_s", Scalar{kU, "m/s"});
+  ConfigFile config = ConfigFile::parse("[vortex]\n", "reduce.toml");
+  ConfigSection s(config, "vortex");
+  VortexStage stage;
+  stage.configure(s);
+  Provenance provenance = Provenance::start("test");
+  Progress progress(Progress::Mode::kQuiet);
+  RunContext context(store, provenance, progress, 1);
+  stage.run(context);
+
+  const Table& per = store.get<Table>("vortex/per_track");
+  ASSERT_EQ(per.rows(), 2u);
+  EXPECT_EQ(per.integers("le_vortex")[0], 1);
+  EXPECT_EQ(per.texts("end_reason")[0], "left the field of view");
+  EXPECT_EQ(per.texts("detachment")[0], "secondary vortex eruption beneath it");
+  EXPECT_NEAR(per.numbers("convection_speed")[0], 0.3, 1e-9);  // positions after detachment only
+  const Table& ev = store.get<Table>("vortex/events_per_cycle");
+  ASSERT_EQ(ev.rows(), 4u);
+  EXPECT_EQ(ev.texts("event")[1], "vortex_detachment");
+  EXPECT_NEAR(ev.numbers("t_s")[1], 10 * kDt, 1e-12);
+  EXPECT_EQ(ev.texts("event")[2], "vortex_te_passage");
+  EXPECT_EQ(ev.texts("status")[2], "missing");
+  EXPECT_NE(ev.texts("reason")[2].find("left the field of view"), std::string::npos) << ev.texts("reason")[2];
+  EXPECT_TRUE(std::isnan(ev.numbers("t_s")[2]));
+  EXPECT_NEAR(ev.numbers("t_conv")[0], 0.0, 1e-12);
+}
+
+}  // namespace
+}  // namespace stallscope

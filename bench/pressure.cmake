@@ -1,0 +1,1 @@
+stallscope_bench(bench_pressure_path pressure_path_bench.cpp)

@@ -225,6 +225,138 @@ void write_ramp(RunStore& s, const Record& r, const numerics::RampFit& ramp) {
   s.put("run/k", Scalar{0.0, "1"});
 }
 
+// --- periodic ramps ----------------------------------------------------------
+
+// Ramp up, hold, ramp down, hold, cycle after cycle. The periodic fit needs
+// many harmonics for the corners; the ramps themselves are fitted per cycle.
+constexpr int kRampHarmonics = 25;
+
+struct PeriodicRamp {
+  numerics::SinusoidFit fit;
+  MotionFit motion;  // cycles as the sine path would cut them
+  std::vector<std::int64_t> cycle;
+  std::vector<std::string> stroke;
+  std::vector<numerics::RampFit> ramps;
+  double rms_misfit = 0;
+};
+
+// The periodic fit with kRampHarmonics; it also cuts the cycles.
+std::optional<numerics::SinusoidFit> fit_ramp_series(const Record& r, const MotionWindow& w, Trial& trial) {
+  try {
+    return numerics::fit_sinusoid(r.t.segment(w.first, w.last - w.first), r.alpha.segment(w.first, w.last - w.first),
+                                  kRampHarmonics);
+  } catch (const std::invalid_argument& e) {
+    trial.why = std::string("no periodic ramp fits (") + e.what() + ")";
+    return std::nullopt;
+  }
+}
+
+// Ramps fitted half-cycle by half-cycle on the cycles that `fit` cuts.
+std::optional<PeriodicRamp> try_periodic_ramp(const Record& r, const MotionWindow& w, const numerics::SinusoidFit& fit,
+                                              Trial& trial, const MotionStage::Options& o) {
+  PeriodicRamp p;
+  p.fit = fit;
+  // Cycle boundaries as for a sine: the fundamental's minimum, mid-way along the bottom hold.
+  const double f = p.fit.frequency_hz, period = 1 / f;
+  const double t_begin = std::max(r.t[0], r.t[w.first] - (w.first > 0 ? 0.15 * period : 0.0));
+  const double t_end = std::min(r.t[r.t.size() - 1], r.t[w.last - 1] + (w.last < r.t.size() ? 0.15 * period : 0.0));
+  double lead = std::fmod(-0.5 * kPi - p.fit.theta(t_begin), 2 * kPi);
+  if (lead < 0) lead += 2 * kPi;
+  p.motion.freq_hz = f;
+  p.motion.cycle_origin_s = t_begin + lead / (2 * kPi * f);
+  p.motion.cycles =
+      std::max<std::int64_t>(0, static_cast<std::int64_t>(std::floor((t_end - p.motion.cycle_origin_s) * f + 1e-9)));
+  double ss = 0, excursion = 0;
+  Eigen::Index count = 0;
+  for (std::int64_t c = 0; c < p.motion.cycles; ++c) {
+    const double cs = p.motion.cycle_start_s(c);
+    for (int half = 0; half < 2; ++half) {
+      const double a = cs + 0.5 * half * period, b = a + 0.5 * period;
+      const double* begin = r.t.data();
+      const auto i0 = std::lower_bound(begin, begin + r.t.size(), a) - begin;
+      const auto i1 = std::lower_bound(begin, begin + r.t.size(), b) - begin;
+      try {
+        numerics::RampFit ramp = numerics::fit_ramp(r.t.segment(i0, i1 - i0), r.alpha.segment(i0, i1 - i0));
+        ss += ramp.rms_residual * ramp.rms_residual * static_cast<double>(i1 - i0);
+        count += i1 - i0;
+        excursion = std::max(excursion, std::abs(ramp.level_end - ramp.level_start));
+        p.cycle.push_back(c);
+        p.stroke.push_back(half == 0 ? "up" : "down");
+        p.ramps.push_back(ramp);
+      } catch (const std::invalid_argument& e) {
+        trial.why = "no ramp in cycle " + std::to_string(c) + " (" + e.what() + ")";
+        return p;
+      }
+    }
+  }
+  if (p.ramps.empty()) {
+    trial.why = "no complete ramp cycle";
+    return p;
+  }
+  p.rms_misfit = std::sqrt(ss / static_cast<double>(count));
+  const double misfit = p.rms_misfit / excursion;
+  trial.fits = misfit <= o.max_residual_fraction;
+  trial.why = "ramps fitted cycle by cycle leave an rms misfit of " + num(100 * misfit, 3) + " % of their excursion";
+  return p;
+}
+
+void write_periodic_ramp(RunStore& s, const Record& r, const MotionWindow& w, const PeriodicRamp& p) {
+  write_sine(s, r, w, p.fit);  // motion/fit, phase and cycle, as for any periodic motion
+  const MotionFit m = MotionFit::from_store(s, "motion");
+  const double period = m.period_s();
+  // Within complete cycles the angle and rate are the cycle's own ramps and holds.
+  Eigen::VectorXd& alpha = s.get_mutable<Series>("motion/alpha_deg").values;
+  Eigen::VectorXd& rate = s.get_mutable<Series>("motion/alpha_rate_deg_s").values;
+  for (Eigen::Index i = 0; i < r.t.size(); ++i) {
+    const std::int64_t c = m.cycle(r.t[i]);
+    if (c < 0) continue;
+    const auto half = static_cast<std::size_t>(r.t[i] - m.cycle_start_s(c) >= 0.5 * period ? 1 : 0);
+    const auto j = static_cast<std::size_t>(2 * c) + half;
+    if (j >= p.ramps.size()) continue;
+    alpha[i] = p.ramps[j].value(r.t[i]);
+    rate[i] = p.ramps[j].derivative(r.t[i]);
+  }
+  s.attributes("motion/alpha_deg")["source"] = std::string("fitted ramps and holds, cycle by cycle");
+  s.attributes("motion/alpha_rate_deg_s")["source"] = std::string("fitted ramps, cycle by cycle");
+  s.attributes("motion/fit")["shape"] = std::string("periodic ramp: ramp up, hold, ramp down, hold");
+
+  std::vector<double> t0, t1, a0, a1, rates, nondim, misfit, lows, highs, up_rates;
+  for (const auto& ramp : p.ramps) {
+    t0.push_back(ramp.t_start);
+    t1.push_back(ramp.t_end);
+    a0.push_back(ramp.level_start);
+    a1.push_back(ramp.level_end);
+    rates.push_back(ramp.rate);
+    nondim.push_back(ramp.rate * kDegToRad * r.chord / (2 * r.speed));
+    misfit.push_back(ramp.rms_residual);
+  }
+  for (std::size_t j = 0; j < p.ramps.size(); ++j)
+    if (p.stroke[j] == "up") {
+      lows.push_back(a0[j]);
+      highs.push_back(a1[j]);
+      up_rates.push_back(rates[j]);
+    }
+  Table table;
+  table.add({"cycle", "1", p.cycle})
+      .add({"stroke", "", p.stroke})
+      .add({"t_start_s", "s", t0})
+      .add({"t_end_s", "s", t1})
+      .add({"alpha_start_deg", "deg", a0})
+      .add({"alpha_end_deg", "deg", a1})
+      .add({"rate_deg_s", "deg/s", rates})
+      .add({"rate_nondim", "1", nondim})
+      .add({"misfit_deg", "deg", misfit});
+  s.put("motion/ramps", std::move(table),
+        {{"rate_nondim", std::string("r = alpha_dot c / (2U), alpha_dot in rad/s")}});
+  const double low = numerics::percentile(lows, 0.5), high = numerics::percentile(highs, 0.5);
+  const double up = numerics::percentile(up_rates, 0.5);
+  s.put("motion/ramp_rate_deg_s", Scalar{up, "deg/s"});
+  s.put("motion/ramp_rate_nondim", Scalar{up * kDegToRad * r.chord / (2 * r.speed), "1"});
+  s.put("run/motion", Text{"ramp"});
+  s.put("run/alpha_mean_deg", Scalar{0.5 * (low + high), "deg"});
+  s.put("run/alpha_amp_deg", Scalar{0.5 * (high - low), "deg"});
+}
+
 // --- static angle and staircase ----------------------------------------------
 
 // The angle stays within +- tolerance (1st to 99th percentile) over the whole record.
@@ -409,8 +541,9 @@ std::vector<std::string> MotionStage::outputs() const {
   std::vector<std::string> out = {"motion/alpha_deg", "motion/alpha_rate_deg_s", "run/motion", "run/alpha_mean_deg",
                                   "run/alpha_amp_deg", "run/freq_hz", "run/k"};
   const std::string& t = options_.type;
-  if (t == "auto" || t == "sine")
+  if (t == "auto" || t == "sine" || t == "ramp")
     out.insert(out.end(), {"motion/fit", "motion/phase_deg", "motion/cycle"});
+  if (t == "auto" || t == "ramp") out.push_back("motion/ramps");
   if (t == "auto" || t == "static" || t == "staircase") out.push_back("motion/plateaus");
   if (t == "auto" || t == "ramp")
     out.insert(out.end(), {"motion/ramp_start_s", "motion/ramp_end_s", "motion/ramp_alpha_start_deg",
@@ -462,11 +595,35 @@ void MotionStage::run(RunContext& context) {
     }
     reasons.push_back(trial.why);
   }
+  const MotionWindow window = motion_window(r, options_);
   if (type == "sine" || type == "auto") {
     Trial trial;
-    const MotionWindow window = motion_window(r, options_);
     auto fit = try_sine(r, window, options_, trial);
-    if (trial.fits) return write_sine(s, r, window, *fit);
+    if (trial.fits) {
+      // A ramp-and-hold motion is close enough to a sine to pass: it is a
+      // ramp when ramps fitted cycle by cycle leave less than half the misfit.
+      if (type == "auto") {
+        Trial ramp_trial;
+        auto ramps = try_periodic_ramp(r, window, *fit, ramp_trial, options_);
+        if (ramp_trial.fits && ramps->rms_misfit < 0.5 * fit->rms_residual_fundamental) {
+          Trial series_trial;
+          if (auto series = fit_ramp_series(r, window, series_trial)) {
+            auto refined = try_periodic_ramp(r, window, *series, series_trial, options_);
+            if (series_trial.fits) return write_periodic_ramp(s, r, window, *refined);
+          }
+        }
+      }
+      return write_sine(s, r, window, *fit);
+    }
+    reasons.push_back(trial.why);
+  }
+  if (type == "ramp" || type == "auto") {
+    // A periodic ramp first; a single ramp between two holds is tried last.
+    Trial trial;
+    if (auto series = fit_ramp_series(r, window, trial)) {
+      auto ramps = try_periodic_ramp(r, window, *series, trial, options_);
+      if (trial.fits) return write_periodic_ramp(s, r, window, *ramps);
+    }
     reasons.push_back(trial.why);
   }
   if (type == "staircase" || type == "auto") {

@@ -283,3 +283,60 @@ TEST(MotionStage, FitsASlowSineWhoseEveryShortWindowLooksSteady) {
 
 }  // namespace
 }  // namespace stallscope
+
+namespace stallscope {
+namespace {
+
+// Ramp up at 60 deg/s from 4 to 20 deg, hold 0.3 s, ramp down, hold 0.3 s,
+// five times, between 1.5 s rests at 4 deg; 2 kHz, encoder noise 0.02 deg.
+TEST(MotionStage, MeasuresEveryRampOfAPeriodicRampMotion) {
+  Harness h;
+  testing::put_conditions(h.store, 0.3, 20);
+  const double rate = 60, lo = 4, hi = 20, hold = 0.3, ramp = (hi - lo) / rate, period = 2 * (ramp + hold);
+  const double rest = 1.5, cycles = 5;
+  const Eigen::VectorXd t = testing::time_base(0, 2000, 2 * rest + cycles * period);
+  Eigen::VectorXd a(t.size());
+  std::mt19937 gen(4);
+  std::normal_distribution<double> noise(0.0, 0.02);
+  for (Eigen::Index i = 0; i < t.size(); ++i) {
+    const double tau = t[i] - rest;
+    double v = lo;
+    if (tau >= 0 && tau < cycles * period) {
+      const double w = std::fmod(tau, period);
+      v = w < ramp ? lo + rate * w : w < ramp + hold ? hi : w < 2 * ramp + hold ? hi - rate * (w - ramp - hold) : lo;
+    }
+    a[i] = v + noise(gen);
+  }
+  h.store.put("signals/time_s", Series{t, "s"});
+  h.store.put("signals/alpha_deg", Series{a, "deg"});
+  MotionStage stage;
+  h.run(stage);
+  ASSERT_EQ(h.store.get<Text>("run/motion").value, "ramp");
+  EXPECT_NEAR(h.store.get<Scalar>("run/freq_hz").value, 1 / period, 1e-4);
+  EXPECT_NEAR(h.store.get<Scalar>("run/alpha_mean_deg").value, 12.0, 0.01);
+  EXPECT_NEAR(h.store.get<Scalar>("run/alpha_amp_deg").value, 8.0, 0.01);
+  const Table& ramps = h.store.get<Table>("motion/ramps");
+  // The cycles start mid-way along the bottom hold: the first of the five begins
+  // with the rest, so 4 or 5 complete cycles are cut, two ramps each.
+  ASSERT_GE(ramps.rows(), 8u);
+  for (std::size_t j = 0; j < ramps.rows(); ++j) {
+    const bool up = ramps.texts("stroke")[j] == "up";
+    // Slope of ~500 samples with 0.02 deg noise: standard error ~0.01 deg/s.
+    EXPECT_NEAR(ramps.numbers("rate_deg_s")[j], up ? rate : -rate, 0.1) << "ramp " << j;
+    EXPECT_NEAR(ramps.numbers("rate_nondim")[j], (up ? rate : -rate) * kPi / 180 * 0.3 / 40, 2e-4);
+    // Each up ramp starts at a whole number of periods after the motion began.
+    if (up) {
+      const double k = std::round((ramps.numbers("t_start_s")[j] - rest) / period);
+      EXPECT_NEAR(ramps.numbers("t_start_s")[j], rest + k * period, 2e-3) << "ramp " << j;
+    }
+  }
+  EXPECT_NEAR(h.store.get<Scalar>("motion/ramp_rate_deg_s").value, rate, 0.05);
+  // Inside a cycle the rate is the ramp's, not a Fourier series of it.
+  const MotionFit m = MotionFit::from_store(h.store, "test");
+  const double mid_up = m.cycle_start_s(1) + 0.25 * period;  // the middle of cycle 1's up ramp
+  const auto i = static_cast<Eigen::Index>(std::lround(mid_up * 2000));
+  EXPECT_NEAR(h.store.get<Series>("motion/alpha_rate_deg_s").values[i], rate, 0.1);
+}
+
+}  // namespace
+}  // namespace stallscope

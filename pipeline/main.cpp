@@ -10,6 +10,7 @@
 #include "calib/piv/piv_target_command.hpp"
 #include "calib/transducers/transducer_command.hpp"
 #include "pipeline/errors.hpp"
+#include "pipeline/campaign/campaign.hpp"
 #include "pipeline/inspect.hpp"
 #include "pipeline/reduce.hpp"
 #include "pipeline/registry.hpp"
@@ -53,6 +54,16 @@ int run(int argc, char** argv) {
 
   auto* stages_cmd = app.add_subcommand("stages", "list the stages a config can enable");
 
+  campaign::CampaignRequest campaign_request;
+  auto* campaign_cmd = app.add_subcommand("campaign", "reduce the runs a campaign manifest lists, in parallel");
+  campaign_cmd->add_option("manifest", campaign_request.manifest, "campaign manifest (TOML)")->required();
+  campaign_cmd->add_option("-o,--output", campaign_request.output_directory, "folder for the run folders and summary")
+      ->capture_default_str();
+  campaign_cmd->add_option("-j,--jobs", campaign_request.jobs, "runs reduced at once (0: one per core)")
+      ->check(CLI::NonNegativeNumber);
+  campaign_cmd->add_flag("--force", campaign_request.force, "reduce every run again, even an up-to-date one");
+  campaign_cmd->add_flag("-q,--quiet", quiet, "no progress messages on stderr");
+
   try {
     app.parse(argc, argv);
   } catch (const CLI::CallForHelp& e) {
@@ -66,6 +77,11 @@ int run(int argc, char** argv) {
     return 2;
   }
 
+  if (*campaign_cmd) {
+    campaign_request.quiet = quiet;
+    campaign_request.command_line = joined_command_line(argc, argv);
+    return campaign::run_campaign(campaign_request, std::cout);
+  }
   if (*reduce_cmd) {
     reduce_request.command_line = joined_command_line(argc, argv);
     Progress progress = Progress::for_stderr(quiet);

@@ -63,7 +63,8 @@ std::string ReduceSummary::brief() const {
 ReduceSummary reduce(const ReduceRequest& request, Progress& progress) {
   using Clock = std::chrono::steady_clock;
   const auto started = Clock::now();
-  ConfigFile config = ConfigFile::load(request.config);
+  ConfigFile config = request.config_text.empty() ? ConfigFile::load(request.config)
+                                                  : ConfigFile::parse(request.config_text, request.config);
   std::vector<ConfiguredStage> configured = configure_stages(config);
 
   std::vector<std::unique_ptr<Stage>> stages;
@@ -78,7 +79,8 @@ ReduceSummary reduce(const ReduceRequest& request, Progress& progress) {
   Provenance provenance = Provenance::start(request.command_line);
   provenance.config_path = fs::absolute(config.path()).lexically_normal().string();
   provenance.config_toml = config.text();
-  provenance.add_input(config.path(), "run config");
+  if (request.config_text.empty()) provenance.add_input(config.path(), "run config");
+  for (const auto& source : request.config_sources) provenance.add_input(source, "run config");
 
   int threads = request.threads > 0 ? request.threads : static_cast<int>(std::thread::hardware_concurrency());
   RunStore store;

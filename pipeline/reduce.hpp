@@ -15,6 +15,11 @@ struct ReduceRequest {
   bool force = false;
   int threads = 0;  // 0: all cores
   std::string command_line;
+  // A config given as text (a campaign's base config with per-run overrides):
+  // parsed instead of reading `config`, which then only names it and anchors
+  // its relative paths; `config_sources` are the files it was made from.
+  std::string config_text;
+  std::vector<std::filesystem::path> config_sources;
 };
 
 struct ReduceSummary {

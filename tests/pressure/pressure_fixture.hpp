@@ -119,6 +119,21 @@ struct PressureRun {
     store.put("run/pivot_x_over_c", Scalar{0.25, "1"});
   }
 
+  // The DAQ record as the CSV the daq stage reads.
+  std::filesystem::path write_daq_csv(const std::string& name) const {
+    const Matrix& v = store.get<Matrix>("daq/volts");
+    const Eigen::VectorXd& t = store.get<Series>("daq/time_s").values;
+    std::string text = "time_s";
+    for (const auto& c : v.columns) text += "," + c;
+    text += "\n";
+    for (Eigen::Index k = 0; k < t.size(); ++k) {
+      text += fmt::format("{:.6f}", t[k]);
+      for (Eigen::Index c = 0; c < v.values.cols(); ++c) text += fmt::format(",{:.12g}", v.values(k, c));
+      text += "\n";
+    }
+    return dir.write(name, text);
+  }
+
   // Configures and runs one stage from the config text plus `more` TOML.
   template <typename StageT>
   void run_stage(const std::string& more = "") {

@@ -123,8 +123,10 @@ void add_stall_row(TableBuilder& stall, const CampaignRun& run, const RunDigest&
     if (!wanted) continue;
     const std::string quantity = text_cell(e, "quantity", r);
     const std::string base = quantity.empty() ? event : event + "_" + quantity;
+    // The statistics' units differ row by row; a "units" column says which.
     const Column* mean = e.find("mean");
-    const std::string units = mean ? mean->units : "";
+    const std::string row_units = text_cell(e, "units", r);
+    const std::string units = !row_units.empty() ? row_units : mean ? mean->units : "";
     stall.set(base + "_n", "1", cell(e, "n", r));
     for (const char* stat : {"mean", "std", "ci95_lo", "ci95_hi"}) stall.set(base + "_" + stat, units, cell(e, stat, r));
   }

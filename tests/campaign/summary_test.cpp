@@ -44,6 +44,7 @@ void write_run(const JobSettings& settings, const std::string& name, bool with_m
     Table events;
     events.add({"event", "", std::vector<std::string>{"stall_onset", "stall_delay", "lift_peak"}})
         .add({"quantity", "", std::vector<std::string>{"alpha_deg", "t_conv", "alpha_deg"}})
+        .add({"units", "", std::vector<std::string>{"deg", "1", "deg"}})
         .add({"n", "1", std::vector<std::int64_t>{20, 20, 19}})
         .add({"mean", "", std::vector<double>{17.5, 1.25, 18.0}})
         .add({"std", "", std::vector<double>{0.4, 0.1, 0.5}})
@@ -133,6 +134,7 @@ TEST_F(SummaryTest, TheStallTableHasARowPerDynamicRunWithOnsetAndDelay) {
   ASSERT_EQ(t.rows(), 2u);  // the failed run has no data
   EXPECT_DOUBLE_EQ(at(t, "stall_onset_alpha_deg_mean", 0), 17.5);
   EXPECT_DOUBLE_EQ(at(t, "stall_onset_alpha_deg_ci95_hi", 0), 17.7);
+  EXPECT_EQ(t.find("stall_onset_alpha_deg_mean")->units, "deg");
   EXPECT_DOUBLE_EQ(at(t, "stall_delay_t_conv_mean", 0), 1.25);
   EXPECT_DOUBLE_EQ(at(t, "stall_delay_t_conv_n", 0), 20);
   EXPECT_TRUE(std::isnan(at(t, "stall_delay_t_conv_mean", 1)));

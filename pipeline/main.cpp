@@ -14,6 +14,7 @@
 #include "pipeline/inspect.hpp"
 #include "pipeline/reduce.hpp"
 #include "pipeline/registry.hpp"
+#include "pipeline/report/report.hpp"
 #include "stallscope/version.hpp"
 
 namespace {
@@ -54,6 +55,13 @@ int run(int argc, char** argv) {
 
   auto* stages_cmd = app.add_subcommand("stages", "list the stages a config can enable");
 
+  bool no_report = false;
+  reduce_cmd->add_flag("--no-report", no_report, "do not draw report/index.html beside the archive");
+  std::string report_folder;
+  auto* report_cmd = app.add_subcommand("report", "(re)draw the plots and the HTML report of an archive");
+  report_cmd->add_option("archive", archive, "archive (.h5)")->required();
+  report_cmd->add_option("-o,--output", report_folder, "folder for the page and plots (default: report/ beside the archive)");
+
   campaign::CampaignRequest campaign_request;
   auto* campaign_cmd = app.add_subcommand("campaign", "reduce the runs a campaign manifest lists, in parallel");
   campaign_cmd->add_option("manifest", campaign_request.manifest, "campaign manifest (TOML)")->required();
@@ -87,6 +95,12 @@ int run(int argc, char** argv) {
     Progress progress = Progress::for_stderr(quiet);
     ReduceSummary summary = reduce(reduce_request, progress);
     std::cout << summary.brief();
+    // Drawn from the archive just written: the archive stays the single source.
+    if (!no_report) std::cout << "report:  " << report::write_report(summary.archive).index.string() << "\n";
+    return 0;
+  }
+  if (*report_cmd) {
+    std::cout << report::write_report(archive, report_folder).index.string() << "\n";
     return 0;
   }
   if (*inspect_cmd) {

@@ -19,8 +19,13 @@ void ConditionsStage::configure(ConfigSection& s) {
             "give exactly one of velocity_m_s and dynamic_pressure_pa");
   options_.velocity_m_s = s.number("velocity_m_s", 0.0);
   options_.dynamic_pressure_pa = s.number("dynamic_pressure_pa", 0.0);
-  if (has_u) s.require(options_.velocity_m_s > 0, "velocity_m_s", "expected a speed > 0");
-  if (has_q) s.require(options_.dynamic_pressure_pa > 0, "dynamic_pressure_pa", "expected a pressure > 0");
+  // isfinite: TOML spells inf and nan, and either would run silently into Re, q and every coefficient.
+  if (has_u)
+    s.require(options_.velocity_m_s > 0 && std::isfinite(options_.velocity_m_s), "velocity_m_s",
+              "expected a finite speed > 0");
+  if (has_q)
+    s.require(options_.dynamic_pressure_pa > 0 && std::isfinite(options_.dynamic_pressure_pa), "dynamic_pressure_pa",
+              "expected a finite pressure > 0");
 }
 
 std::vector<std::string> ConditionsStage::outputs() const {

@@ -47,7 +47,7 @@ void DaqStage::run(RunContext& context) {
   Eigen::Index worst = 0;
   const double jitter = ((dt.array() - median_dt).abs() / median_dt).maxCoeff(&worst);
   if (jitter > options_.max_rate_jitter)
-    throw InputError(r.source, "sample interval jumps by " + std::to_string(100 * jitter) + " % at sample " +
+    throw InputError(r.where(worst + 1), "sample interval jumps by " + std::to_string(100 * jitter) + " % at sample " +
                                    std::to_string(worst + 1) + " (t = " + std::to_string(r.time_s[worst + 1]) +
                                    " s); allowed is [daq] max_rate_jitter = " +
                                    std::to_string(options_.max_rate_jitter));

@@ -1,6 +1,8 @@
 #include "stages/run.hpp"
 
 #include <algorithm>
+#include <cctype>
+#include <cmath>
 
 namespace stallscope {
 
@@ -16,7 +18,7 @@ void RunStage::configure(ConfigSection& s) {
   options_.chord_m = s.number("chord_m");
   s.require(options_.chord_m > 0 && options_.chord_m < 100, "chord_m", "expected a chord in metres, > 0");
   options_.span_m = s.number("span_m", 0.0);
-  s.require(options_.span_m >= 0, "span_m", "expected a span in metres, >= 0");
+  s.require(options_.span_m >= 0 && std::isfinite(options_.span_m), "span_m", "expected a finite span in metres, >= 0");
   options_.pivot_x_over_c = s.number("pivot_x_over_c", options_.pivot_x_over_c);
   s.require(options_.pivot_x_over_c >= -1 && options_.pivot_x_over_c <= 2, "pivot_x_over_c",
             "expected the pitch axis as a fraction of chord, between -1 and 2");

@@ -20,6 +20,12 @@ int DaqRecord::channel_index(const std::string& name) const {
   return -1;
 }
 
+std::string DaqRecord::where(Eigen::Index sample, const std::string& dataset) const {
+  const auto i = static_cast<std::size_t>(sample);
+  if (i < lines.size()) return source + ":" + std::to_string(lines[i]);
+  return source + ": /daq/" + dataset;
+}
+
 static bool looks_like_hdf5(const fs::path& path) {
   std::ifstream in(path, std::ios::binary);
   char sig[8] = {};
@@ -105,6 +111,7 @@ DaqRecord read_daq_csv(const fs::path& path) {
       }
       values.push_back(v);
     }
+    r.lines.push_back(line_no);
     ++rows;
   }
   if (header.empty()) throw InputError(path.string(), "expected a CSV header row 'time_s,<channel>,...', found no lines");
@@ -137,10 +144,17 @@ DaqRecord read_daq_hdf5(const fs::path& path) {
     throw InputError(fn, "/daq/volts has " + std::to_string(vdims[0]) + " rows but /daq/time_s has " +
                              std::to_string(tdims[0]) + " samples");
   if (tdims[0] == 0) throw InputError(fn, "/daq/time_s has no samples");
+  (void)h5::checked_elements(f.id(), "daq/volts", fn, vi, sizeof(double));
   r.channels = h5::read_text_list_attribute(f.id(), "daq/volts", "channels");
   if (r.channels.size() != vdims[1])
     throw InputError(fn, "/daq/volts attribute 'channels' names " + std::to_string(r.channels.size()) +
                              " channels, the dataset has " + std::to_string(vdims[1]) + " columns");
+  std::set<std::string> seen;
+  for (const auto& c : r.channels) {
+    if (c.empty()) throw InputError(fn, "/daq/volts attribute 'channels' has an empty channel name");
+    if (!seen.insert(c).second)
+      throw InputError(fn, "/daq/volts attribute 'channels': channel '" + c + "' appears twice");
+  }
   r.time_s = Eigen::Map<Eigen::VectorXd>(t.data(), static_cast<Eigen::Index>(t.size()));
   // Read in blocks of rows and transpose each block while it is in cache: the
   // store keeps one contiguous column per channel.
@@ -160,9 +174,9 @@ void check_daq_record(const DaqRecord& r) {
   const Eigen::Index n = r.time_s.size();
   for (Eigen::Index i = 0; i < n; ++i) {
     if (!std::isfinite(r.time_s[i]))
-      throw InputError(r.source, "time_s of sample " + std::to_string(i) + " is not finite");
+      throw InputError(r.where(i), "time_s of sample " + std::to_string(i) + " is not finite");
     if (i > 0 && r.time_s[i] <= r.time_s[i - 1])
-      throw InputError(r.source, std::string(r.time_s[i] == r.time_s[i - 1] ? "duplicated" : "non-monotonic") +
+      throw InputError(r.where(i), std::string(r.time_s[i] == r.time_s[i - 1] ? "duplicated" : "non-monotonic") +
                                      " time at sample " + std::to_string(i) + " (t = " +
                                      std::to_string(r.time_s[i]) + " s after " + std::to_string(r.time_s[i - 1]) +
                                      " s)");
@@ -170,8 +184,9 @@ void check_daq_record(const DaqRecord& r) {
   for (Eigen::Index c = 0; c < r.volts.cols(); ++c)
     for (Eigen::Index i = 0; i < n; ++i)
       if (!std::isfinite(r.volts(i, c)))
-        throw InputError(r.source, "channel '" + r.channels[static_cast<std::size_t>(c)] + "' has a non-finite value at sample " +
-                                       std::to_string(i) + " (t = " + std::to_string(r.time_s[i]) + " s)");
+        throw InputError(r.where(i, "volts"), "channel '" + r.channels[static_cast<std::size_t>(c)] +
+                                                  "' has a non-finite value at sample " + std::to_string(i) +
+                                                  " (t = " + std::to_string(r.time_s[i]) + " s)");
 }
 
 }  // namespace stallscope

@@ -183,15 +183,28 @@ fs::path write_archive(const RunStore& store, const Provenance& provenance, cons
 
 namespace {
 
-void read_group(hid_t file, const std::string& file_name, const std::string& group, RunStore& store);
+void read_group(hid_t file, const std::string& file_name, const std::string& group, RunStore& store, int depth);
+
+// The units attribute of a dataset, "" when absent or not text.
+std::string units_of(hid_t file, const std::string& path) {
+  auto units = h5::read_attribute(file, path, "units");
+  return units && std::holds_alternative<std::string>(*units) ? std::get<std::string>(*units) : "";
+}
 
 void read_table(hid_t file, const std::string& file_name, const std::string& path, RunStore& store) {
   Table t;
+  std::size_t rows = 0;
   for (const auto& name : h5::read_text_list_attribute(file, path, "columns")) {
     std::string cpath = path + "/" + name;
     h5::DatasetInfo di = h5::info(file, cpath, file_name);
-    auto units = h5::read_attribute(file, cpath, "units");
-    std::string u = units ? std::get<std::string>(*units) : "";
+    if (di.dims.size() != 1) throw InputError(file_name, "table column /" + cpath + " must be 1-D");
+    if (t.find(name)) throw InputError(file_name, "table /" + path + " names column '" + name + "' twice");
+    // A damaged table may have ragged columns; every reader indexes rows across columns.
+    if (!t.columns.empty() && di.dims[0] != rows)
+      throw InputError(file_name, "table column /" + cpath + " has " + std::to_string(di.dims[0]) +
+                                      " rows, the table's other columns " + std::to_string(rows));
+    rows = di.dims[0];
+    std::string u = units_of(file, cpath);
     if (di.type_class == H5T_STRING) t.add({name, "", h5::read_texts(file, cpath, file_name)});
     else if (di.type_class == H5T_INTEGER) t.add({name, u, h5::read_integers(file, cpath, file_name)});
     else t.add({name, u, h5::read_numbers(file, cpath, file_name)});
@@ -201,9 +214,7 @@ void read_table(hid_t file, const std::string& file_name, const std::string& pat
 
 void read_dataset(hid_t file, const std::string& file_name, const std::string& path, RunStore& store) {
   h5::DatasetInfo di = h5::info(file, path, file_name);
-  auto units_attr = h5::read_attribute(file, path, "units");
-  std::string units = units_attr && std::holds_alternative<std::string>(*units_attr)
-                          ? std::get<std::string>(*units_attr) : "";
+  std::string units = units_of(file, path);
   if (di.type_class == H5T_STRING) {
     auto texts = h5::read_texts(file, path, file_name);
     store.put(path, Text{texts.empty() ? "" : texts.front()});
@@ -232,7 +243,13 @@ void read_dataset(hid_t file, const std::string& file_name, const std::string& p
   if (store.contains(path)) store.attributes(path) = std::move(extra);
 }
 
-void read_group(hid_t file, const std::string& file_name, const std::string& group, RunStore& store) {
+// Deeper than any layout we write; a deeper file is damaged or holds a link cycle.
+constexpr int kMaxGroupDepth = 16;
+
+void read_group(hid_t file, const std::string& file_name, const std::string& group, RunStore& store, int depth) {
+  if (depth > kMaxGroupDepth)
+    throw InputError(file_name, "/" + group + " is nested deeper than " + std::to_string(kMaxGroupDepth) +
+                                    " groups (a link cycle?)");
   for (const auto& a : h5::attribute_names(file, group)) {
     auto v = h5::read_attribute(file, group, a);
     if (!v) continue;
@@ -246,7 +263,7 @@ void read_group(hid_t file, const std::string& file_name, const std::string& gro
       if (h5::has_attribute(file, path, "columns"))
         read_table(file, file_name, path, store);
       else
-        read_group(file, file_name, path, store);
+        read_group(file, file_name, path, store, depth + 1);
     } else {
       read_dataset(file, file_name, path, store);
     }
@@ -260,7 +277,9 @@ RunStore read_archive(const fs::path& archive) {
   RunStore store;
   for (const auto& top : h5::children(file.id(), "/")) {
     if (top == "provenance" || !h5::is_group(file.id(), top)) continue;
-    read_group(file.id(), file.name(), top, store);
+    // A top-level group may itself be a table (cycles).
+    if (h5::has_attribute(file.id(), top, "columns")) read_table(file.id(), file.name(), top, store);
+    else read_group(file.id(), file.name(), top, store, 1);
   }
   return store;
 }
@@ -287,6 +306,21 @@ Provenance read_provenance(const fs::path& archive) {
   read_table(file.id(), fn, "provenance/inputs", s);
   read_table(file.id(), fn, "provenance/calibrations", s);
   read_table(file.id(), fn, "provenance/stages", s);
+  // The columns each table must have, of the type it is read as (a hand-edited
+  // or damaged archive is the user's input, not our bug).
+  auto require_column = [&](const char* table, const char* column, const char* kind) {
+    const Column* c = s.get<Table>(std::string("provenance/") + table).find(column);
+    const bool ok = c && ((kind[0] == 't' && std::holds_alternative<std::vector<std::string>>(c->data)) ||
+                          (kind[0] == 'i' && std::holds_alternative<std::vector<std::int64_t>>(c->data)) ||
+                          (kind[0] == 'n' && std::holds_alternative<std::vector<double>>(c->data)));
+    if (!ok)
+      throw InputError(fn, std::string("/provenance/") + table + " needs a column '" + column + "' of " + kind);
+  };
+  for (const char* c : {"path", "role", "sha256"}) require_column("inputs", c, "text");
+  require_column("inputs", "bytes", "integers");
+  for (const char* c : {"id", "file", "sha256"}) require_column("calibrations", c, "text");
+  for (const char* c : {"name", "parameters"}) require_column("stages", c, "text");
+  require_column("stages", "seconds", "numbers");
   const Table& in = s.get<Table>("provenance/inputs");
   for (std::size_t r = 0; r < in.rows(); ++r)
     p.inputs.push_back({in.texts("path")[r], in.texts("role")[r],

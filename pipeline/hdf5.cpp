@@ -1,6 +1,7 @@
 #include "pipeline/hdf5.hpp"
 
 #include <algorithm>
+#include <limits>
 #include <stdexcept>
 
 #include "pipeline/errors.hpp"
@@ -33,7 +34,15 @@ void Id::close() {
   id_ = H5I_INVALID_HID;
 }
 
-void quiet_library_errors() { H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr); }
+void quiet_library_errors() {
+  // No clean-up at exit: after a failed write (disk full) H5Fclose fails and
+  // leaves the file in the library's table, and libhdf5's exit handler then
+  // crashes closing it. Every file we open is closed by Id anyway. Must run
+  // before the library's first call, hence here (each File starts with it).
+  static const bool no_atexit = H5dont_atexit() >= 0;
+  (void)no_atexit;
+  H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr);
+}
 
 static void check(herr_t status, const std::string& what) {
   if (status < 0) throw std::runtime_error("HDF5: " + what);
@@ -265,14 +274,33 @@ DatasetInfo info(hid_t file, const std::string& path, const std::string& file_na
   return out;
 }
 
+// Element count of a dataset, refusing shapes a damaged file may declare: a
+// product that overflows, or far more elements than the file stores (deflate
+// packs at most ~1000:1, so a real dataset never declares more than that).
+hsize_t checked_elements(hid_t file, const std::string& path, const std::string& file_name,
+                         const DatasetInfo& di, std::size_t element_bytes) {
+  hsize_t n = 1;
+  for (auto d : di.dims) {
+    if (d != 0 && n > std::numeric_limits<hsize_t>::max() / d / element_bytes)
+      throw InputError(file_name, "/" + path + " declares a shape too large to be real (damaged file?)");
+    n *= d;
+  }
+  Id ds(H5Dopen2(file, path.c_str(), H5P_DEFAULT));
+  const hsize_t stored = ds ? H5Dget_storage_size(ds.get()) : 0;
+  constexpr hsize_t kMaxRatio = 4096, kSlack = 1 << 20;
+  if (n * element_bytes > kMaxRatio * stored + kSlack)
+    throw InputError(file_name, "/" + path + " declares " + std::to_string(n) + " elements but the file stores only " +
+                                    std::to_string(stored) + " bytes of it (truncated or damaged file?)");
+  return n;
+}
+
 template <typename T>
 static std::vector<T> read_numeric(hid_t file, const std::string& path, const std::string& file_name,
                                    hid_t mem_type, std::vector<hsize_t>* dims_out) {
   DatasetInfo di = info(file, path, file_name);
   if (di.type_class != H5T_FLOAT && di.type_class != H5T_INTEGER)
     throw InputError(file_name, "/" + path + " must be numeric");
-  hsize_t n = 1;
-  for (auto d : di.dims) n *= d;
+  const hsize_t n = checked_elements(file, path, file_name, di, sizeof(T));
   std::vector<T> out(n);
   Id ds = open_dataset(file, path, file_name);
   if (n && H5Dread(ds.get(), mem_type, H5S_ALL, H5S_ALL, H5P_DEFAULT, out.data()) < 0)
@@ -314,7 +342,8 @@ std::vector<std::string> read_texts(hid_t file, const std::string& path, const s
   if (di.type_class != H5T_STRING) throw InputError(file_name, "/" + path + " must hold strings");
   Id ds = open_dataset(file, path, file_name);
   Id ftype(H5Dget_type(ds.get()));
-  hsize_t n = di.dims.empty() ? 1 : di.dims[0];
+  // Every element, whatever the rank: H5S_ALL reads them all into the buffer.
+  const hsize_t n = checked_elements(file, path, file_name, di, sizeof(char*));
   std::vector<std::string> out;
   if (H5Tis_variable_str(ftype.get()) > 0) {
     Id t = utf8_vlen_string();

@@ -73,6 +73,10 @@ bool is_group(hid_t file, const std::string& path);
 bool has_attribute(hid_t file, const std::string& object_path, const std::string& name);
 std::vector<std::string> children(hid_t file, const std::string& group_path);  // sorted names
 DatasetInfo info(hid_t file, const std::string& path, const std::string& file_name);
+// The dataset's element count; InputError when its declared shape overflows or is far
+// larger than what the file stores (a damaged file), before anyone allocates for it.
+hsize_t checked_elements(hid_t file, const std::string& path, const std::string& file_name, const DatasetInfo& info,
+                         std::size_t element_bytes);
 std::vector<double> read_numbers(hid_t file, const std::string& path, const std::string& file_name,
                                  std::vector<hsize_t>* dims = nullptr);
 std::vector<float> read_floats(hid_t file, const std::string& path, const std::string& file_name,

@@ -5,6 +5,7 @@
 #include <map>
 
 #include "pipeline/archive.hpp"
+#include "pipeline/errors.hpp"
 #include "pipeline/sha256.hpp"
 
 namespace stallscope {
@@ -49,6 +50,20 @@ std::string inspect_archive(const fs::path& archive) {
 
   if (store.contains("events/summary")) {
     const Table& t = store.get<Table>("events/summary");
+    // A damaged or hand-edited archive: say which column is wrong rather than fail inside.
+    auto need = [&](const char* column, bool text, bool integer) {
+      const Column* c = t.find(column);
+      const bool ok = c && (text ? std::holds_alternative<std::vector<std::string>>(c->data)
+                                 : integer ? std::holds_alternative<std::vector<std::int64_t>>(c->data)
+                                           : std::holds_alternative<std::vector<double>>(c->data));
+      if (!ok)
+        throw InputError(archive.string(), std::string("/events/summary needs a column '") + column + "' of " +
+                                               (text ? "text" : integer ? "integers" : "numbers"));
+    };
+    need("event", true, false);
+    need("n", false, true);
+    for (const char* c : {"mean", "std", "ci95_lo", "ci95_hi"}) need(c, false, false);
+    if (t.find("quantity")) need("quantity", true, false);
     out += "\nevent statistics (across valid cycles)\n";
     out += fmt::format("  {:<24} {:<12} {:>4} {:>12} {:>12} {:>25}\n", "event", "quantity", "n", "mean", "std",
                        "95% CI of the mean");

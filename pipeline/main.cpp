@@ -14,6 +14,7 @@
 #include "pipeline/inspect.hpp"
 #include "pipeline/reduce.hpp"
 #include "pipeline/registry.hpp"
+#include "tools/synth/synth_command.hpp"
 #include "pipeline/report/report.hpp"
 #include "stallscope/version.hpp"
 
@@ -55,6 +56,13 @@ int run(int argc, char** argv) {
 
   auto* stages_cmd = app.add_subcommand("stages", "list the stages a config can enable");
 
+  SynthRequest synth_request;
+  auto* synth_cmd = app.add_subcommand("synth", "write a synthetic run (raw files and ground truth) from a scenario");
+  synth_cmd->add_option("scenario", synth_request.scenario, "scenario (TOML)")->required();
+  synth_cmd->add_option("-o,--output", synth_request.output_directory, "folder for the run")->required();
+  synth_cmd->add_flag("--force", synth_request.force, "overwrite a run already in the folder");
+  synth_cmd->add_flag("-q,--quiet", quiet, "no progress messages on stderr");
+
   bool no_report = false;
   reduce_cmd->add_flag("--no-report", no_report, "do not draw report/index.html beside the archive");
   std::string report_folder;
@@ -89,6 +97,10 @@ int run(int argc, char** argv) {
     campaign_request.quiet = quiet;
     campaign_request.command_line = joined_command_line(argc, argv);
     return campaign::run_campaign(campaign_request, std::cout);
+  }
+  if (*synth_cmd) {
+    synth_request.quiet = quiet;
+    return run_synth(synth_request);
   }
   if (*reduce_cmd) {
     reduce_request.command_line = joined_command_line(argc, argv);

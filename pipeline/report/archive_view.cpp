@@ -3,6 +3,7 @@
 #include <cmath>
 
 #include "pipeline/archive.hpp"
+#include "pipeline/errors.hpp"
 #include "pipeline/hdf5.hpp"
 #include "pipeline/sha256.hpp"
 
@@ -28,6 +29,9 @@ std::optional<Table> read_table(hid_t file, const std::string& file_name, const 
     const h5::DatasetInfo di = h5::info(file, cpath, file_name);
     const auto units = h5::read_attribute(file, cpath, "units");
     const std::string u = units && std::holds_alternative<std::string>(*units) ? std::get<std::string>(*units) : "";
+    // A damaged table may have ragged or multi-dimensional columns: bad input, not our error.
+    if (di.dims.size() != 1 || (!t.columns.empty() && di.dims[0] != t.rows()))
+      throw InputError(file_name, "table column /" + cpath + " is not a column of the table's length");
     if (di.type_class == H5T_STRING) t.add({name, "", h5::read_texts(file, cpath, file_name)});
     else if (di.type_class == H5T_INTEGER) t.add({name, u, h5::read_integers(file, cpath, file_name)});
     else t.add({name, u, h5::read_numbers(file, cpath, file_name)});

@@ -44,6 +44,18 @@ inline std::filesystem::path write_campaign(const ScratchDir& dir, int runs, std
   return dir.write("campaign.toml", m + extra_runs);
 }
 
+// The bundled demo campaign (three synthetic runs in sample_data/kestrel_ridge)
+// as a manifest in dir; empty if the demo runs are not there.
+inline std::filesystem::path write_demo_campaign(const ScratchDir& dir) {
+  std::string m = "[campaign]\nname = \"kestrel-ridge-a\"\n";
+  for (int i = 1; i <= 3; ++i) {
+    const auto config = kSourceDir / fmt::format("sample_data/kestrel_ridge/run{}/reduce.toml", i);
+    if (!std::filesystem::exists(config)) return {};
+    m += fmt::format("\n[[runs]]\nconfig = \"{}\"\n", config.string());
+  }
+  return dir.write("demo_campaign.toml", m);
+}
+
 inline CommandResult run_campaign_cli(const std::filesystem::path& manifest, const std::filesystem::path& out,
                                       const std::string& args = "") {
   return run_stallscope("campaign -q " + shell_quote(manifest.string()) + " -o " + shell_quote(out.string()) + " " +

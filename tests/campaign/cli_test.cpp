@@ -64,6 +64,23 @@ TEST(CampaignCli, ThreeRunsGiveIdenticalResultsOneOrTwoAtATime) {
   EXPECT_EQ(count(runs, ",ok,"), 3) << runs;
 }
 
+TEST(CampaignCli, TheDemoCampaignGivesIdenticalRunTablesAndSummaryOneOrTwoAtATime) {
+  ScratchDir dir;
+  const fs::path manifest = testing::write_demo_campaign(dir);
+  if (manifest.empty()) GTEST_SKIP() << "no demo campaign in sample_data/kestrel_ridge";
+  CommandResult one = run_campaign_cli(manifest, dir / "j1", "-j 1");
+  ASSERT_EQ(one.exit_code, 0) << one.out << one.err;
+  CommandResult two = run_campaign_cli(manifest, dir / "j2", "-j 2");
+  ASSERT_EQ(two.exit_code, 0) << two.out << two.err;
+  // Every per-run CSV (events_per_cycle.csv, events_summary.csv, ... when the
+  // configs enable those stages) and the campaign CSVs, byte for byte.
+  const auto csv1 = testing::csv_files(dir / "j1");
+  EXPECT_EQ(csv1, testing::csv_files(dir / "j2"));
+  EXPECT_EQ(testing::count_lines(csv1.at("campaign_runs.csv")), 4);
+  EXPECT_EQ(summary_tables(dir / "j1"), summary_tables(dir / "j2"));
+  std::printf("%s", two.out.c_str());
+}
+
 TEST(CampaignCli, ABrokenRunFailsAloneAndIsMarkedWithItsError) {
   ScratchDir dir;
   dir.write("raw/garbled.csv", "t;enc\n0;1\n");

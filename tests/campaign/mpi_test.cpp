@@ -52,6 +52,22 @@ TEST(CampaignMpi, TwoRanksGiveTheSameResultsAsTheLocalMode) {
   EXPECT_EQ(current, 3) << again.out;
 }
 
+TEST(CampaignMpi, TheDemoCampaignOnTwoRanksGivesTheSameTablesAsLocally) {
+  if (!campaign::built_with_mpi() || std::string(STALLSCOPE_MPIEXEC).empty())
+    GTEST_SKIP() << "built without MPI (configure with -DSTALLSCOPE_WITH_MPI=ON)";
+  ScratchDir dir;
+  const fs::path manifest = testing::write_demo_campaign(dir);
+  if (manifest.empty()) GTEST_SKIP() << "no demo campaign in sample_data/kestrel_ridge";
+  auto local = testing::run_campaign_cli(manifest, dir / "local", "-j 2");
+  ASSERT_EQ(local.exit_code, 0) << local.out << local.err;
+  auto mpi = testing::run_command(std::string(STALLSCOPE_MPIEXEC) + " --allow-run-as-root --oversubscribe -np 2 " +
+                                  testing::shell_quote(testing::kBinary.string()) + " campaign -q " +
+                                  testing::shell_quote(manifest.string()) + " -o " +
+                                  testing::shell_quote((dir / "mpi").string()));
+  ASSERT_EQ(mpi.exit_code, 0) << mpi.out << mpi.err;
+  EXPECT_EQ(testing::csv_files(dir / "local"), testing::csv_files(dir / "mpi"));
+}
+
 TEST(CampaignMpi, ABrokenRunUnderMpiStillEndsWithExitCode2OnEveryRank) {
   if (!campaign::built_with_mpi() || std::string(STALLSCOPE_MPIEXEC).empty())
     GTEST_SKIP() << "built without MPI (configure with -DSTALLSCOPE_WITH_MPI=ON)";

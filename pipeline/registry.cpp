@@ -13,6 +13,7 @@
 #include "stages/phase.hpp"
 #include "stages/damping.hpp"
 #include "stages/static_polar.hpp"
+#include "stages/events/events_stage.hpp"
 #include "stages/piv/piv_stage.hpp"
 #include "stages/piv/vortex_stage.hpp"
 

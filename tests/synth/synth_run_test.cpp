@@ -133,8 +133,9 @@ TEST(SynthRun, DistortedTapsPassASlowPressureSignalUnchanged) {
       worst = std::max(worst, std::abs(measured - expected));
       scale = std::max(scale, std::abs(expected));
     }
-    // float32 truth Cp (1e-7 relative) and the line lag at 0.27 Hz (~1 ms) bound this.
-    EXPECT_LT(worst, 2e-3 * scale) << tap;
+    // The line lag (about 1.5 ms, 2.5e-3 rad at 0.27 Hz) bounds this; a gain error
+    // would show at the full pressure scale.
+    EXPECT_LT(worst, 5e-3 * scale) << tap;
   }
 }
 

@@ -91,7 +91,7 @@ struct Scenario {
   double tube_length_m = 0.35;
   double tube_diameter_m = 1.0e-3;
   double transducer_volume_m3 = 1.0e-8;
-  double fir_duration_s = 0.128;  // length of the tubing impulse response applied
+  double fir_duration_s = 0.512;  // length of the tubing impulse response applied
 
   // [stall] attached loads, Goman-Khrabrov separation, per-cycle jitter
   double lift_slope_per_rad = 6.0;       // circulatory Cl slope (thin airfoil: 2 pi)
@@ -124,7 +124,7 @@ struct Scenario {
   double q_fluctuation = 0.01;     // rms fraction of q
   double q_fluctuation_s = 0.3;    // correlation time of the q fluctuation
   double zero_shift_pa = 8.0;      // rms transducer zero error versus the calibration file
-  double zero_drift_pa = 6.0;      // rms drift of each zero from the first tare to the last
+  double zero_drift_pa = 2.0;      // rms drift of each zero from the first tare to the last
   double gain_spread = 0.02;       // rms relative spread of transducer gains (stated in the file)
   double encoder_noise_deg = 0.02; // rms encoder noise
   double temperature_rise_k = 0.4; // air warms during the run

@@ -2,6 +2,7 @@
 
 #include <fftw3.h>
 
+#include <algorithm>
 #include <complex>
 #include <mutex>
 #include <numbers>
@@ -11,6 +12,7 @@ namespace stallscope::synth {
 
 namespace {
 constexpr double kTaperStart = 0.5;  // fraction of the Nyquist frequency
+constexpr int kDesignLength = 65536;  // design grid, samples
 // FFTW's planner is not thread-safe; plans are made under this lock.
 std::mutex fftw_planner_mutex;
 }  // namespace
@@ -18,35 +20,44 @@ std::mutex fftw_planner_mutex;
 std::vector<double> tubing_impulse_response(std::span<const calib::TubeSegment> line, const calib::AirProperties& air,
                                             double sample_rate_hz, int n) {
   if (n < 4 || n % 2 != 0) throw std::invalid_argument("tubing_impulse_response: n must be even and >= 4");
-  const int bins = n / 2 + 1;
+  // Designed on a long grid, then cut to n taps: the viscous (sqrt(omega)) terms of
+  // the line response give the impulse response a slowly decaying tail, which a
+  // short periodic design would wrap round onto negative times.
+  const int design = std::max(16 * n, kDesignLength);
+  const int bins = design / 2 + 1;
   fftw_complex* spectrum = fftw_alloc_complex(bins);
-  double* impulse = fftw_alloc_real(n);
+  double* impulse = fftw_alloc_real(design);
   fftw_plan plan;
   {
     std::lock_guard lock(fftw_planner_mutex);
-    plan = fftw_plan_dft_c2r_1d(n, spectrum, impulse, FFTW_ESTIMATE);
+    plan = fftw_plan_dft_c2r_1d(design, spectrum, impulse, FFTW_ESTIMATE);
   }
   const double nyquist = 0.5 * sample_rate_hz;
   for (int k = 0; k < bins; ++k) {
-    const double f = k * sample_rate_hz / n;
+    const double f = k * sample_rate_hz / design;
     std::complex<double> h = k == 0 ? std::complex<double>(1.0) : calib::line_response(line, air, f);
     // The DAQ's anti-alias filter: a raised-cosine taper over the upper half of the
-    // band. Without it the line's fractional-sample delay leaves a slowly decaying
-    // sinc tail that wraps round the FIR.
+    // band, so the line's fractional-sample delay leaves no sinc tail.
     if (f > kTaperStart * nyquist)
       h *= 0.5 * (1.0 + std::cos(std::numbers::pi * (f - kTaperStart * nyquist) / ((1.0 - kTaperStart) * nyquist)));
+    if (k == bins - 1) h = h.real();  // the Nyquist bin of a real filter is real
     spectrum[k][0] = h.real();
     spectrum[k][1] = h.imag();
   }
   fftw_execute(plan);
   std::vector<double> out(impulse, impulse + n);
-  for (double& v : out) v /= n;  // FFTW's inverse is unnormalised
   {
     std::lock_guard lock(fftw_planner_mutex);
     fftw_destroy_plan(plan);
   }
   fftw_free(spectrum);
   fftw_free(impulse);
+  // Cosine fade over the last quarter, then the DC gain set back to exactly 1.
+  const int fade = n / 4;
+  for (int m = n - fade; m < n; ++m) out[m] *= 0.5 * (1.0 + std::cos(std::numbers::pi * (m - (n - fade) + 1) / (fade + 1)));
+  double sum = 0.0;
+  for (double v : out) sum += v;
+  for (double& v : out) v /= sum;
   return out;
 }
 

@@ -1,12 +1,12 @@
 #pragma once
 // Forward tubing distortion for synthetic taps: the Bergh-Tijdeman line response
 // H(f) (calib/tubing) turned into a causal FIR filter by an inverse real FFT
-// (FFTW) of H sampled at N bins up to the Nyquist frequency. The FIR's DFT is H
-// exactly at the bins below half the Nyquist frequency (above it a raised-cosine
-// taper stands for the DAQ's anti-alias filter), so its DC gain is H(0) = 1 (a slow signal passes
-// unchanged) and its resonance and lag are those of the line. N/fs must exceed
-// the line's ring-down time; the default 0.128 s is ample for lossy lines under
-// a few metres (impulse responses decay within tens of milliseconds).
+// (FFTW) of H on a long frequency grid (a raised-cosine taper over the upper
+// half of the band stands for the DAQ's anti-alias filter), cut to N taps with a
+// cosine fade and scaled to a DC gain of exactly H(0) = 1 (a slow signal passes
+// unchanged). Below half the Nyquist frequency its response is the line's to
+// about 1e-3 (the cut viscous tail). N/fs must exceed the line's ring-down time;
+// the default 0.512 s holds the ring-down of lossy lines under a few metres.
 // Applied sample by sample with a ring buffer, so memory does not grow.
 #include <span>
 #include <vector>

@@ -65,12 +65,18 @@ MotionWindow motion_window(const Record& r, const MotionStage::Options& o) {
   const double t0 = r.t[0], t1 = r.t[r.t.size() - 1];
   const auto& head = plateaus.front();
   const auto& tail = plateaus.back();
+  // The plateau test looks a little ahead, so it ends a plateau a few
+  // samples before the model moves: extend each rest while the angle stays
+  // within the band, or the fit would see rest samples as motion.
+  const double band = o.plateau_tolerance_deg;
   if (head.t_start - t0 < o.plateau_min_duration_s && head.t_end < t1) {
     w.first = head.end;
+    while (w.first < r.t.size() && std::abs(r.alpha[w.first] - head.level) <= band) ++w.first;
     w.rest_before = head.level;
   }
   if (t1 - tail.t_end < o.plateau_min_duration_s && tail.t_start > t0 && (plateaus.size() > 1 || w.first == 0)) {
     w.last = tail.begin;
+    while (w.last > w.first && std::abs(r.alpha[w.last - 1] - tail.level) <= band) --w.last;
     w.rest_after = tail.level;
   }
   if (w.last - w.first < 20) return MotionWindow{0, r.t.size(), NAN, NAN};

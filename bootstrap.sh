@@ -16,7 +16,10 @@ packages=(
   libeigen3-dev libfftw3-dev libhdf5-dev libtomlplusplus-dev libcli11-dev libfmt-dev
   libcairo2-dev libssl-dev libopencv-imgproc-dev libopencv-calib3d-dev
   libgtest-dev libbenchmark-dev
-  python3 python3-numpy python3-scipy python3-h5py
+  libopenmpi-dev openmpi-bin
+  python3 python3-numpy python3-scipy python3-h5py python3-pil
+  chromium fonts-dejavu-core
+  clang libclang-rt-14-dev libomp-14-dev
 )
 
 missing=()

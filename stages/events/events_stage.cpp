@@ -240,7 +240,7 @@ void EventsStage::run(RunContext& context) {
   // A single ramp is one "cycle"; a periodic ramp-and-hold has cycles like a sine, its angle from its ramps.
   const bool periodic_ramp = motion_type == "ramp" && s.contains("motion/fit") && s.contains("motion/ramps");
   const bool ramp = motion_type == "ramp" && !periodic_ramp;
-  if (motion_type != "sine" && !ramp)
+  if (motion_type != "sine" && !ramp && !periodic_ramp)
     throw InputError("[events]", "needs a periodic or ramp pitch motion, but [motion] found '" + motion_type +
                                      "' (disable [events] for a static run)");
 

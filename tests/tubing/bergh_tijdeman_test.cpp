@@ -119,7 +119,7 @@ TEST(BesselRatio, StartsAsZOverTwoN) {
 }
 
 // The single-tube closed form evaluated by scipy (jve) for the same inputs: checks
-// the transcription of phi, n and alpha, and our Bessel ratios inside them.
+// our coding of phi, n and alpha, and our Bessel ratios inside them.
 TEST(BerghTijdeman, SingleTubeMatchesTheFormulaEvaluatedWithScipy) {
   struct Case {
     double f, length, radius, volume;

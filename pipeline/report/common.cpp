@@ -3,6 +3,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <fstream>
 #include <map>
 #include <set>
 
@@ -12,6 +13,76 @@
 namespace stallscope::report {
 
 namespace fs = std::filesystem;
+
+namespace {
+
+// Our own look: one quiet column, hairline rules, figures in pairs.
+constexpr const char* kStyle = R"css(
+:root { --ink: #22242b; --muted: #5d6170; --rule: #c9ccd6; --accent: #1a2954; --tint: #f3f4f8; }
+* { box-sizing: border-box; }
+body { margin: 0; color: var(--ink); background: #fff;
+       font: 15px/1.5 "DejaVu Sans", "Liberation Sans", Helvetica, Arial, sans-serif; }
+main { max-width: 1060px; margin: 0 auto; padding: 28px 32px 60px; }
+header { border-bottom: 2px solid var(--accent); padding-bottom: 12px; margin-bottom: 8px; }
+header h1 { font-size: 26px; margin: 0; font-weight: 600; letter-spacing: 0.01em; }
+header p { margin: 4px 0 0; color: var(--muted); }
+nav { font-size: 13px; margin: 10px 0 22px; color: var(--muted); }
+nav a { color: var(--accent); text-decoration: none; margin-right: 14px; }
+section { margin-top: 30px; }
+h2 { font-size: 18px; font-weight: 600; color: var(--accent); border-bottom: 1px solid var(--rule);
+     padding-bottom: 4px; margin: 0 0 12px; }
+h2 .number { color: var(--muted); font-weight: 400; margin-right: 8px; }
+h3 { font-size: 15px; font-weight: 600; margin: 20px 0 6px; }
+figure { margin: 12px 0 18px; }
+figure img { display: block; max-width: 100%; height: auto; }
+figcaption { font-size: 13px; color: var(--muted); margin-top: 4px; max-width: 720px; }
+figcaption b { color: var(--ink); }
+.pair { display: flex; flex-wrap: wrap; gap: 18px; }
+.pair figure { flex: 1 1 460px; max-width: 506px; }
+table { border-collapse: collapse; font-variant-numeric: tabular-nums; font-size: 13.5px; }
+table.summary { border-top: 1.5px solid var(--ink); border-bottom: 1.5px solid var(--ink); min-width: 520px; }
+table.summary th { text-align: left; font-weight: 400; padding: 3px 24px 3px 0; color: var(--muted); }
+table.summary td { padding: 3px 10px 3px 0; text-align: right; }
+table.summary.facts td { text-align: left; }
+table.summary td.units { text-align: left; color: var(--muted); }
+table.numbers, table.files { border-top: 1.5px solid var(--ink); border-bottom: 1.5px solid var(--ink); }
+table.numbers th, table.files th { border-bottom: 1px solid var(--ink); font-weight: 600; padding: 4px 10px;
+                                   text-align: left; }
+table.numbers td { text-align: right; padding: 2px 10px; }
+table.numbers td:first-child, table.numbers td:nth-child(2) { text-align: left; }
+table.files td { padding: 2px 10px; vertical-align: top; }
+table tbody tr:nth-child(even) { background: var(--tint); }
+td.num { text-align: right; }
+table.numbers td.text { text-align: left; max-width: 380px; font-size: 12.5px; }
+table.numbers td.name { white-space: nowrap; }
+.ci { color: var(--muted); }
+code { font: 12.5px "DejaVu Sans Mono", "Liberation Mono", monospace; }
+code.hash { font-size: 11.5px; word-break: break-all; }
+pre { background: var(--tint); padding: 10px 12px; overflow-x: auto; font-size: 12px; }
+details summary { cursor: pointer; color: var(--accent); }
+.note, .description { color: var(--muted); }
+footer { margin-top: 40px; border-top: 1px solid var(--rule); padding-top: 10px; font-size: 12.5px;
+         color: var(--muted); }
+)css";
+
+}  // namespace
+
+const char* page_style() { return kStyle; }
+
+void write_page(const fs::path& path, const std::string& text) {
+  const fs::path partial = path.string() + ".partial";
+  {
+    std::ofstream out(partial, std::ios::binary | std::ios::trunc);
+    out << text;
+    out.flush();
+    if (!out) {
+      std::error_code ec;
+      fs::remove(partial, ec);
+      throw InputError(path.string(), "report page cannot be written (disk full or read-only?)");
+    }
+  }
+  fs::rename(partial, path);
+}
 
 fs::path PlotFolder::draft(const std::string& file_name) {
   names_.push_back(file_name);

@@ -36,6 +36,10 @@ class PlotFolder {
 std::string figure_html(const std::string& file_name, const std::string& alt, const std::string& caption,
                         const std::string& css_class = "");
 std::string escape_html(const std::string& s);
+// The page style every report page shares, and a page written to a .partial
+// name and renamed when complete (InputError naming the file if it cannot be).
+const char* page_style();
+void write_page(const std::filesystem::path& path, const std::string& text);
 // A number for tables and captions: `digits` significant digits, true minus sign, "–" for NaN.
 std::string format_number(double v, int digits = 4);
 

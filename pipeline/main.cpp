@@ -79,6 +79,7 @@ int run(int argc, char** argv) {
       ->check(CLI::NonNegativeNumber);
   campaign_cmd->add_flag("--force", campaign_request.force, "reduce every run again, even an up-to-date one");
   campaign_cmd->add_flag("-q,--quiet", quiet, "no progress messages on stderr");
+  campaign_cmd->add_flag("!--no-report", campaign_request.draw_report, "draw neither the run reports nor the campaign page");
 
   try {
     app.parse(argc, argv);

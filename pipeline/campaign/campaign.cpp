@@ -15,6 +15,7 @@
 #include "pipeline/campaign/summary_files.hpp"
 #include "pipeline/errors.hpp"
 #include "pipeline/progress.hpp"
+#include "pipeline/report/campaign_page.hpp"
 
 namespace stallscope::campaign {
 
@@ -48,6 +49,23 @@ std::string report(const Manifest& m, const std::vector<RunOutcome>& outcomes, s
   return s;
 }
 
+// The campaign page in <out>/report, linking each run's own report.
+fs::path draw_campaign_page(const CampaignSummary& summary, const Manifest& m, const JobSettings& settings,
+                            const std::vector<fs::path>& files) {
+  report::CampaignPage page;
+  page.name = m.name;
+  page.description = m.description;
+  page.runs = summary.runs;
+  page.stall = summary.stall;
+  const fs::path folder = settings.output_directory / "report";
+  for (const auto& run : m.runs) {
+    const fs::path run_page = run_folder(settings, run) / "report" / "index.html";
+    page.run_reports.push_back(fs::exists(run_page) ? fs::relative(run_page, folder).generic_string() : "");
+  }
+  for (const auto& f : files) page.files.push_back(fs::relative(f, folder).generic_string());
+  return report::write_campaign_report(page, folder).index;
+}
+
 }  // namespace
 
 int run_campaign(const CampaignRequest& request, std::ostream& out) {
@@ -75,6 +93,7 @@ int run_campaign(const CampaignRequest& request, std::ostream& out) {
   settings.force = request.force;
   settings.threads = plan.threads_per_run;
   settings.command_line = request.command_line;
+  settings.draw_report = request.draw_report;
 
   Progress progress = Progress::for_stderr(request.quiet || !root);
   progress.note(fmt::format("campaign '{}': {} runs, {} at a time{}, {} thread{} each", manifest.name,
@@ -109,6 +128,7 @@ int run_campaign(const CampaignRequest& request, std::ostream& out) {
           }
         }
       auto files = write_summary(summary, manifest, request.output_directory, request.command_line);
+      if (request.draw_report) files.push_back(draw_campaign_page(summary, manifest, settings, files));
       const double seconds = std::chrono::duration<double>(Clock::now() - started).count();
       out << report(manifest, outcomes, summary.failed, seconds, files);
       out.flush();

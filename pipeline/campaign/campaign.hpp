@@ -18,6 +18,7 @@ struct CampaignRequest {
   int jobs = 0;        // runs at once on this node (per MPI rank); 0: one per core, at most one per run
   bool force = false;  // reduce every run again, even an up-to-date one
   bool quiet = false;
+  bool draw_report = true;  // the run reports and the campaign page
   std::string command_line;
 };
 

@@ -9,6 +9,7 @@
 #include "pipeline/errors.hpp"
 #include "pipeline/inspect.hpp"
 #include "pipeline/reduce.hpp"
+#include "pipeline/report/report.hpp"
 #include "pipeline/sha256.hpp"
 
 namespace stallscope::campaign {
@@ -128,6 +129,10 @@ RunOutcome reduce_campaign_run(const CampaignRun& run, std::size_t index, const 
       reduce(request, quiet);
       outcome.state = RunOutcome::State::kReduced;
     }
+    // Drawn from the archive, so an up-to-date run only needs a missing page.
+    if (settings.draw_report &&
+        (outcome.state == RunOutcome::State::kReduced || !fs::exists(run_folder(settings, run) / "report" / "index.html")))
+      report::write_report(archive);
   } catch (const InputError& e) {
     outcome.error = one_line(e.what());
   } catch (const UsageError& e) {

@@ -28,6 +28,7 @@ struct JobSettings {
   bool force = false;
   int threads = 1;  // threads one run may use
   std::string command_line;
+  bool draw_report = true;  // each run's report/index.html beside its archive
 };
 
 // <out>/<name>/ holds a run's archive and its CSV exports.

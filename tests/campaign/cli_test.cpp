@@ -163,5 +163,32 @@ TEST(CampaignCli, ManifestErrorsNameTheFileAndLineBeforeAnyRunStarts) {
   EXPECT_EQ(testing::run_stallscope("campaign --help").exit_code, 0);
 }
 
+TEST(CampaignCli, DrawsEachRunReportAndACampaignPageLinkingThem) {
+  ScratchDir dir;
+  auto manifest = testing::write_campaign(dir, 2, 500);
+  CommandResult r = run_campaign_cli(manifest, dir / "out", "-j 2");
+  ASSERT_EQ(r.exit_code, 0) << r.out << r.err;
+  const fs::path page = dir / "out" / "report" / "index.html";
+  ASSERT_TRUE(fs::exists(page)) << r.out;
+  EXPECT_NE(r.out.find(page.string()), std::string::npos) << "the page is named among the summary files";
+  const std::string html = read_text(page);
+  for (const char* run : {"r00", "r01"}) {
+    EXPECT_TRUE(fs::exists(dir / "out" / run / "report" / "index.html")) << run;
+    EXPECT_NE(html.find(fmt::format("<a href=\"../{0}/report/index.html\">{0}</a>", run)), std::string::npos) << run;
+  }
+  EXPECT_NE(html.find("<a href=\"../campaign_runs.csv\">"), std::string::npos);
+
+  // Up to date on a rerun, the pages are still there; --no-report draws none.
+  fs::remove_all(dir / "out" / "r00" / "report");
+  r = run_campaign_cli(manifest, dir / "out", "-j 1");
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  EXPECT_NE(r.out.find("0 reduced, 2 up to date"), std::string::npos) << r.out;
+  EXPECT_TRUE(fs::exists(dir / "out" / "r00" / "report" / "index.html")) << "a missing run page is drawn again";
+  r = run_campaign_cli(manifest, dir / "bare", "--no-report");
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  EXPECT_FALSE(fs::exists(dir / "bare" / "report"));
+  EXPECT_FALSE(fs::exists(dir / "bare" / "r00" / "report"));
+}
+
 }  // namespace
 }  // namespace stallscope

@@ -1,6 +1,8 @@
 #include "pipeline/reduce.hpp"
 
+#include <algorithm>
 #include <chrono>
+#include <optional>
 #include <set>
 #include <thread>
 
@@ -11,6 +13,7 @@
 #include "pipeline/errors.hpp"
 #include "pipeline/registry.hpp"
 #include "pipeline/scheduler.hpp"
+#include "pipeline/uncertainty.hpp"
 
 namespace stallscope {
 
@@ -31,7 +34,7 @@ std::vector<ConfiguredStage> configure_stages(const ConfigFile& config) {
   for (const auto& info : registered_stages()) known.insert(std::string(info.name));
   for (const auto& [key, node] : config.table()) {
     std::string k(key.str());
-    if (known.count(k)) continue;
+    if (known.count(k) || k == "uncertainty") continue;
     std::string list;
     for (const auto& info : registered_stages()) list += (list.empty() ? "" : ", ") + std::string(info.name);
     throw InputError(config.path().string() + ":" + std::to_string(node.source().begin.line) + ":" +
@@ -51,6 +54,40 @@ std::vector<ConfiguredStage> configure_stages(const ConfigFile& config) {
   return out;
 }
 
+// [uncertainty], when present and enabled: the Monte Carlo model.
+std::optional<UncertaintyModel> uncertainty_model(const ConfigFile& config, std::string& parameters) {
+  ConfigSection section(config, "uncertainty");
+  if (!section.present() || !section.boolean("enabled", true)) return std::nullopt;
+  UncertaintyModel model = UncertaintyModel::from(section);
+  section.reject_unknown_keys();
+  parameters = section.parameters_toml();
+  return model;
+}
+
+void put_model(RunStore& store, const UncertaintyModel& m, const UncertaintyResult& r) {
+  store.put("uncertainty/replicas", Scalar{static_cast<double>(r.replicas), "1"});
+  store.put("uncertainty/failed_replicas", Scalar{static_cast<double>(r.failed), "1"});
+  store.put("uncertainty/seed", Scalar{static_cast<double>(m.seed), "1"});
+  struct Sigma {
+    const char* name;
+    double value;
+    const char* units;
+  };
+  const Sigma sigmas[] = {{"channel_gain_relative", m.channel_gain_relative, "1"},
+                          {"taps_gain_relative", m.taps_gain_relative, "1"},
+                          {"q_relative", m.q_relative, "1"},
+                          {"p_static_pa", m.p_static_pa, "Pa"},
+                          {"temperature_k", m.temperature_k, "K"},
+                          {"tap_position_over_c", m.tap_position_over_c, "1"},
+                          {"tube_length_relative", m.tube_length_relative, "1"},
+                          {"tube_diameter_relative", m.tube_diameter_relative, "1"},
+                          {"encoder_offset_deg", m.encoder_offset_deg, "deg"},
+                          {"encoder_gain_relative", m.encoder_gain_relative, "1"}};
+  for (const Sigma& s : sigmas) store.put(std::string("uncertainty/") + s.name, Scalar{s.value, s.units});
+  store.put("uncertainty/calibration_residuals", Text{m.calibration_residuals ? "yes" : "no"});
+  store.put("uncertainty/zero_drift", Text{m.zero_drift ? "yes" : "no"});
+}
+
 }  // namespace
 
 std::string ReduceSummary::brief() const {
@@ -66,6 +103,8 @@ ReduceSummary reduce(const ReduceRequest& request, Progress& progress) {
   ConfigFile config = request.config_text.empty() ? ConfigFile::load(request.config)
                                                   : ConfigFile::parse(request.config_text, request.config);
   std::vector<ConfiguredStage> configured = configure_stages(config);
+  std::string uncertainty_parameters;
+  const std::optional<UncertaintyModel> model = uncertainty_model(config, uncertainty_parameters);
 
   std::vector<std::unique_ptr<Stage>> stages;
   for (auto& c : configured) stages.push_back(std::move(c.stage));
@@ -85,16 +124,37 @@ ReduceSummary reduce(const ReduceRequest& request, Progress& progress) {
   int threads = request.threads > 0 ? request.threads : static_cast<int>(std::thread::hardware_concurrency());
   RunStore store;
   RunContext context(store, provenance, progress, std::max(1, threads));
+  std::set<std::string> shared;  // written by stages that Monte Carlo replicas do not repeat
   for (Stage* stage : order) {
     const auto t0 = Clock::now();
     progress.begin(std::string(stage->name()));
+    const std::vector<std::string> before = stage->repeated_in_replicas() ? std::vector<std::string>{} : store.keys();
     stage->run(context);
+    if (!stage->repeated_in_replicas())
+      for (const auto& key : store.keys())
+        if (!std::binary_search(before.begin(), before.end(), key)) shared.insert(key);
     progress.end();
     std::string parameters;
     for (std::size_t i = 0; i < stages.size(); ++i)
       if (stages[i].get() == stage) parameters = configured[i].parameters;
     provenance.stages.push_back(
         {std::string(stage->name()), std::chrono::duration<double>(Clock::now() - t0).count(), parameters});
+  }
+
+  if (model) {
+    const auto t0 = Clock::now();
+    progress.begin("uncertainty");
+    auto make_stages = [&config] {
+      std::vector<std::unique_ptr<Stage>> fresh;
+      for (auto& c : configure_stages(config)) fresh.push_back(std::move(c.stage));
+      return fresh;
+    };
+    const UncertaintyResult result = propagate_uncertainty(*model, make_stages, config.path().string(), shared,
+                                                           store, progress, std::max(1, threads));
+    put_model(store, *model, result);
+    progress.end();
+    provenance.stages.push_back(
+        {"uncertainty", std::chrono::duration<double>(Clock::now() - t0).count(), uncertainty_parameters});
   }
 
   ReduceSummary summary;

@@ -5,6 +5,7 @@
 #include <filesystem>
 #include <string>
 
+#include "pipeline/perturbation.hpp"
 #include "pipeline/progress.hpp"
 #include "pipeline/provenance.hpp"
 #include "pipeline/run_store.hpp"
@@ -20,6 +21,10 @@ class RunContext {
   const RunStore& store() const { return store_; }
   Progress& progress() { return progress_; }
   int threads() const { return threads_; }
+  // Set in a Monte Carlo replica: the stages that read an uncertain input
+  // perturb it by the replica's draws. Null in the nominal reduction.
+  const Perturbation* perturbation() const { return perturbation_; }
+  void set_perturbation(const Perturbation* p) { perturbation_ = p; }
 
   // Every raw file a stage reads goes through here: it must exist and be
   // readable, and it is hashed into provenance so `verify` can re-check it.
@@ -33,6 +38,7 @@ class RunContext {
   Provenance& provenance_;
   Progress& progress_;
   int threads_;
+  const Perturbation* perturbation_ = nullptr;
 };
 
 }  // namespace stallscope

@@ -32,6 +32,11 @@ class Stage {
   virtual std::vector<std::string> outputs() const = 0;
 
   virtual void run(RunContext& context) = 0;
+
+  // Whether Monte Carlo replicas run this stage again. Ingest of raw data and
+  // the PIV stages (whose own uncertainty is not propagated) run once; their
+  // results are shared by every replica.
+  virtual bool repeated_in_replicas() const { return true; }
 };
 
 }  // namespace stallscope

@@ -180,6 +180,12 @@ void CalibrateStage::run(RunContext& context) {
 
   // Tap table, with y/c from the section when the table leaves it empty.
   calib::TapTable taps = calib::read_tap_table(context.raw_input(options_.tap_table, "tap table"));
+  // A Monte Carlo replica perturbs each uncertain input by its own draws.
+  const Perturbation* mc = context.perturbation();
+  if (mc && mc->model().tap_position_over_c > 0)
+    for (std::size_t i = 0; i < taps.taps.size(); ++i)
+      taps.taps[i].x_over_c =
+          std::clamp(taps.taps[i].x_over_c + mc->error(mc->model().tap_position_over_c, "tap_x_over_c", i), 0.0, 1.0);
   const bool needs_y = std::any_of(taps.taps.begin(), taps.taps.end(), [](const calib::Tap& tp) { return !std::isfinite(tp.y_over_c); });
   if (needs_y) {
     std::string airfoil = store.get<Text>("run/airfoil").value;
@@ -243,6 +249,7 @@ void CalibrateStage::run(RunContext& context) {
     if (c.file->kind != CalibrationKind::kTemperature)
       throw InputError(c.file->where(*ch), "the temperature channel needs a calibration of kind 'temperature'");
     temperature_c = physical(*ch, c);
+    if (mc) temperature_c->array() += mc->error(mc->model().temperature_k, "temperature");
   }
   auto thermal = [&](Eigen::VectorXd p, const calib::ChannelCalibration& cal) {
     if (cal.temperature_coefficient_per_k == 0.0) return p;
@@ -270,7 +277,22 @@ void CalibrateStage::run(RunContext& context) {
                                                  what, z.drift(), options_.max_zero_drift_pa));
     return z;
   };
-  auto pressure = [&](const std::string& channel, const std::string& what, bool zero) {
+  // In a replica: a gain error whose size at the channel's largest pressure in
+  // the run is its calibration residual, an independent and a shared gain
+  // error, and the zero known only to within its drift (after the tare, which
+  // would remove a constant error).
+  auto perturb = [&](Eigen::VectorXd& p, const std::string& channel, const calib::ChannelCalibration& cal,
+                     double shared_gain, const calib::WindOffZero& z) {
+    if (!mc) return;
+    const UncertaintyModel& m = mc->model();
+    double gain = 1.0 + mc->error(m.channel_gain_relative, "channel_gain:" + channel) + shared_gain;
+    const double peak = p.cwiseAbs().maxCoeff();
+    if (m.calibration_residuals && cal.residual > 0 && peak > 0)
+      gain += mc->error(cal.residual / peak, "calibration_residual:" + channel);
+    p *= gain;
+    if (m.zero_drift) p.array() += mc->error(std::abs(z.drift()) / std::sqrt(12.0), "zero:" + channel);
+  };
+  auto pressure = [&](const std::string& channel, const std::string& what, bool zero, double shared_gain = 0.0) {
     const Calibrated& c = calibration_for(channel, what);
     if (!is_pressure_kind(c.file->kind))
       throw InputError(c.file->where(channel), what + " needs a calibration of kind 'pressure_transducers' or "
@@ -279,6 +301,7 @@ void CalibrateStage::run(RunContext& context) {
     Eigen::VectorXd p = thermal(physical(channel, c), *c.cal);
     calib::WindOffZero z;
     if (zero) z = tare(p, what);
+    perturb(p, channel, *c.cal, shared_gain, z);
     return std::pair{p, z};
   };
 
@@ -295,7 +318,8 @@ void CalibrateStage::run(RunContext& context) {
     if (!by_channel.count(tap.channel))
       throw InputError(taps.where(i), "channel '" + tap.channel + "' is in no calibration file given by " +
                                           where_calibrations_);
-    auto [p, z] = pressure(tap.channel, "tap " + tap.name, true);
+    auto [p, z] = pressure(tap.channel, "tap " + tap.name, true,
+                           mc ? mc->error(mc->model().taps_gain_relative, "taps_gain") : 0.0);
     p_taps.values.col(static_cast<Eigen::Index>(i)) = p;
     p_taps.columns.push_back(tap.name);
     zero_before.push_back(z.before);
@@ -312,6 +336,9 @@ void CalibrateStage::run(RunContext& context) {
   if (enc.file->kind != CalibrationKind::kAngleEncoder)
     throw InputError(enc.file->where(*angle_channel), "the angle channel needs a calibration of kind 'angle_encoder'");
   Eigen::VectorXd alpha = physical(*angle_channel, enc);
+  if (mc)
+    alpha = alpha * (1.0 + mc->error(mc->model().encoder_gain_relative, "encoder_gain")) +
+            Eigen::VectorXd::Constant(alpha.size(), mc->error(mc->model().encoder_offset_deg, "encoder_offset"));
 
   double f_pitch = options_.pitch_frequency_hz;
   if (f_pitch == 0.0) f_pitch = fundamental_frequency(alpha, rate, 0.05, 0.05);
@@ -322,7 +349,7 @@ void CalibrateStage::run(RunContext& context) {
   auto q_channel = role(q_role);
   if (!q_channel)
     throw InputError(where_q_source_, "q_source = '" + options_.q_source + "' needs [daq.roles] " + q_role);
-  auto [q, qz] = pressure(*q_channel, "role " + q_role, true);
+  auto [q, qz] = pressure(*q_channel, "role " + q_role, true, mc ? mc->error(mc->model().q_relative, "q_gain") : 0.0);
   if (!pitot) q *= options_.contraction_factor;
   Attributes q_attributes{{"source", options_.q_source}, {"zero_drift_pa", qz.drift()}};
   if (std::abs(qz.drift()) > options_.max_zero_drift_pa) q_attributes["zero_drift_flagged"] = std::int64_t{1};
@@ -350,6 +377,7 @@ void CalibrateStage::run(RunContext& context) {
   if (temperature_c) s.put("signals/T_K", Series{(temperature_c->array() + air::kCelsiusToKelvin).matrix(), "K"});
   if (auto ch = role("p_static")) {
     Eigen::VectorXd p = pressure(*ch, "role p_static", false).first;
+    if (mc) p.array() += mc->error(mc->model().p_static_pa, "p_static");
     Eigen::VectorXd rho(p.size());
     for (Eigen::Index i = 0; i < p.size(); ++i) {
       if (!(p[i] > 0))

@@ -21,6 +21,7 @@ class RunStage final : public Stage {
 
   std::string_view name() const override { return kName; }
   std::string_view summary() const override { return kSummary; }
+  bool repeated_in_replicas() const override { return false; }
   void configure(ConfigSection& section) override;
   std::vector<std::string> inputs() const override { return {}; }
   std::vector<std::string> outputs() const override;

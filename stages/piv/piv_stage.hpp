@@ -50,6 +50,7 @@ class PivStage final : public Stage {
 
   std::string_view name() const override { return kName; }
   std::string_view summary() const override { return kSummary; }
+  bool repeated_in_replicas() const override { return false; }
   void configure(ConfigSection& section) override;
   std::vector<std::string> inputs() const override;
   std::vector<std::string> optional_inputs() const override;

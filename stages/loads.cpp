@@ -5,6 +5,7 @@
 #include <stdexcept>
 
 #include "pipeline/errors.hpp"
+#include "stages/discretisation.hpp"
 
 namespace stallscope {
 
@@ -148,6 +149,11 @@ void LoadsStage::run(RunContext& context) {
   Attributes pivot_attributes = note;
   pivot_attributes["moment_ref_x_over_c"] = pivot;
   store.put("loads/cm_pivot", Series{cm_pivot, "1"}, pivot_attributes);
+
+  // The bias bound of this tap layout (stages/discretisation.hpp), beside the loads.
+  Attributes bounds{{"method", std::string("analytic distributions sampled at the taps against their exact integrals")}};
+  Table check = discretisation_table(discretisation_cases(points, closure), bounds);
+  store.put("loads/discretisation", std::move(check), bounds);
 }
 
 }  // namespace stallscope

@@ -51,7 +51,7 @@ class LoadsStage final : public Stage {
     return {"pressure/time_s", "pressure/cp", "pressure/taps", "signals/alpha_deg", "run/pivot_x_over_c"};
   }
   std::vector<std::string> outputs() const override {
-    return {"loads/time_s", "loads/alpha_deg", "loads/cn", "loads/cc", "loads/cl", "loads/cd_p", "loads/cm", "loads/cm_pivot"};
+    return {"loads/time_s", "loads/alpha_deg", "loads/cn", "loads/cc", "loads/cl", "loads/cd_p", "loads/cm", "loads/cm_pivot", "loads/discretisation"};
   }
   void run(RunContext& context) override;
 

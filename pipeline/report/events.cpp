@@ -88,9 +88,12 @@ std::string summary_table(const Table& t) {
     const char* name;
     const char* title;
   };
-  const Col cols[] = {{"n", "n"},           {"mean", "mean"},        {"std", "std"},
-                      {"median", "median"}, {"p05", "p05"},          {"p95", "p95"},
-                      {"ci95_lo", "95 % CI of the mean, low"}, {"ci95_hi", "high"}};
+  // Side by side: the cycle-to-cycle spread (std, p05-p95), the uncertainty of
+  // the mean over cycles (CI), and, with [uncertainty], the instruments' share.
+  std::vector<Col> cols = {{"n", "n"},           {"mean", "mean"},        {"std", "std over cycles"},
+                           {"median", "median"}, {"p05", "p05"},          {"p95", "p95"},
+                           {"ci95_lo", "95 % CI of the mean, low"}, {"ci95_hi", "high"}};
+  if (has_column(t, "mean_uncertainty")) cols.push_back({"mean_uncertainty", "measurement std of the mean"});
   std::string html = "<table class=\"numbers\" id=\"event-statistics\">\n<thead><tr><th>event</th><th>quantity</th>";
   for (const Col& c : cols) html += fmt::format("<th>{}</th>", c.title);
   html += "</tr></thead>\n<tbody>\n";

@@ -5,12 +5,13 @@
 #include <filesystem>
 #include <string>
 
-#include "pipeline/perturbation.hpp"
 #include "pipeline/progress.hpp"
 #include "pipeline/provenance.hpp"
 #include "pipeline/run_store.hpp"
 
 namespace stallscope {
+
+class Perturbation;  // pipeline/perturbation.hpp
 
 class RunContext {
  public:

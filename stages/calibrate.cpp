@@ -11,6 +11,7 @@
 #include "calib/lines/tap_table.hpp"
 #include "calib/transducers/calibration_file.hpp"
 #include "pipeline/errors.hpp"
+#include "pipeline/perturbation.hpp"
 
 namespace stallscope {
 

@@ -16,6 +16,7 @@
 #include "calib/lines/tap_table.hpp"
 #include "calib/tubing/bergh_tijdeman.hpp"
 #include "pipeline/errors.hpp"
+#include "pipeline/perturbation.hpp"
 
 namespace stallscope {
 

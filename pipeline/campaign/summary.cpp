@@ -132,6 +132,69 @@ void add_stall_row(TableBuilder& stall, const CampaignRun& run, const RunDigest&
   }
 }
 
+// Run-to-run repeatability where the manifest marks repeats: for each group of
+// a run and its repeats, and each event statistic, the spread of the runs'
+// means beside the typical uncertainty of one run's mean over its cycles (CI
+// half-width) and, with [uncertainty], its measurement uncertainty.
+Table repeatability(const Manifest& m, const std::vector<std::optional<Table>>& events) {
+  std::map<std::string, std::vector<std::size_t>> groups;  // nominal run -> run indices
+  for (std::size_t i = 0; i < m.runs.size(); ++i)
+    if (events[i]) groups[m.runs[i].repeat_of.empty() ? m.runs[i].name : m.runs[i].repeat_of].push_back(i);
+  std::vector<std::string> group_name, event_name, quantity, units;
+  std::vector<double> runs, mean, spread, ci_half, measurement;
+  for (const auto& [group, members] : groups) {
+    if (members.size() < 2) continue;
+    // The statistics of the first run name the rows; the others are matched by event and quantity.
+    const Table& first = *events[members.front()];
+    for (std::size_t r = 0; r < first.rows(); ++r) {
+      const std::string e = text_cell(first, "event", r), q = text_cell(first, "quantity", r);
+      std::vector<double> means, halves, measured;
+      for (std::size_t i : members) {
+        const Table& t = *events[i];
+        for (std::size_t k = 0; k < t.rows(); ++k) {
+          if (text_cell(t, "event", k) != e || text_cell(t, "quantity", k) != q) continue;
+          const double x = cell(t, "mean", k);
+          if (!std::isfinite(x)) break;
+          means.push_back(x);
+          halves.push_back(0.5 * (cell(t, "ci95_hi", k) - cell(t, "ci95_lo", k)));
+          measured.push_back(cell(t, "mean_uncertainty", k));
+          break;
+        }
+      }
+      if (means.size() < 2) continue;
+      auto finite_mean = [](const std::vector<double>& v) {
+        double s = 0;
+        std::size_t n = 0;
+        for (double x : v)
+          if (std::isfinite(x)) s += x, ++n;
+        return n ? s / static_cast<double>(n) : kNaN;
+      };
+      double centre = finite_mean(means), ss = 0;
+      for (double x : means) ss += (x - centre) * (x - centre);
+      group_name.push_back(group);
+      event_name.push_back(e);
+      quantity.push_back(q);
+      units.push_back(text_cell(first, "units", r));
+      runs.push_back(static_cast<double>(means.size()));
+      mean.push_back(centre);
+      spread.push_back(std::sqrt(ss / static_cast<double>(means.size() - 1)));
+      ci_half.push_back(finite_mean(halves));
+      measurement.push_back(finite_mean(measured));
+    }
+  }
+  Table t;
+  t.add({"run", "", group_name})
+      .add({"event", "", event_name})
+      .add({"quantity", "", quantity})
+      .add({"units", "", units})
+      .add({"runs", "1", runs})
+      .add({"mean", "", mean})
+      .add({"std_run_to_run", "", spread})
+      .add({"ci95_half_width_within_run", "", ci_half})
+      .add({"measurement_uncertainty", "", measurement});
+  return t;
+}
+
 }  // namespace
 
 RunDigest read_digest(const fs::path& archive) {
@@ -179,6 +242,7 @@ CampaignSummary summarise(const Manifest& manifest, const std::vector<RunOutcome
   declare_leading(polar, false);
 
   CampaignSummary summary;
+  std::vector<std::optional<Table>> run_events(manifest.runs.size());
   for (std::size_t i = 0; i < manifest.runs.size(); ++i) {
     const CampaignRun& run = manifest.runs[i];
     const RunOutcome* outcome = i < outcomes.size() ? &outcomes[i] : nullptr;
@@ -217,6 +281,7 @@ CampaignSummary summarise(const Manifest& manifest, const std::vector<RunOutcome
         events.set_row_of(*d.events, r);
       }
     if (run.kind == RunKind::kDynamic) add_stall_row(stall, run, d);
+    if (run.kind == RunKind::kDynamic) run_events[i] = d.events;
     if (d.static_polar)
       for (std::size_t r = 0; r < d.static_polar->rows(); ++r) {
         polar.new_row();
@@ -228,6 +293,7 @@ CampaignSummary summarise(const Manifest& manifest, const std::vector<RunOutcome
   summary.events = events.table();
   summary.stall = stall.table();
   summary.static_polar = polar.table();
+  summary.repeatability = repeatability(manifest, run_events);
   return summary;
 }
 

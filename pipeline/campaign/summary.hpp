@@ -32,6 +32,7 @@ double reduced_pitch_rate(const RunDigest& digest);
 
 struct CampaignSummary {
   Table runs, events, stall, static_polar;
+  Table repeatability;  // a row per repeated run group and event statistic; empty without repeats
   std::size_t failed = 0;
 };
 

@@ -12,6 +12,12 @@ namespace fs = std::filesystem;
 
 namespace {
 
+bool has_repeats(const Manifest& m) {
+  for (const auto& r : m.runs)
+    if (!r.repeat_of.empty()) return true;
+  return false;
+}
+
 bool has_static_polar(const Manifest& m) {
   for (const auto& r : m.runs)
     if (r.kind == RunKind::kStaticPolar) return true;
@@ -55,6 +61,7 @@ void write_h5(const fs::path& path, const CampaignSummary& s, const Manifest& m,
     write_table(file.id(), "events", s.events);
     write_table(file.id(), "stall", s.stall);
     if (has_static_polar(m)) write_table(file.id(), "static_polar", s.static_polar);
+    if (has_repeats(m)) write_table(file.id(), "repeatability", s.repeatability);
     if (H5Fflush(file.id(), H5F_SCOPE_GLOBAL) < 0) throw InputError(partial.string(), "flush failed (disk full?)");
     file.close();
   } catch (...) {
@@ -78,6 +85,7 @@ std::vector<fs::path> write_summary(const CampaignSummary& summary, const Manife
   csv("campaign_events.csv", summary.events);
   csv("campaign_stall.csv", summary.stall);
   if (has_static_polar(manifest)) csv("campaign_static_polar.csv", summary.static_polar);
+  if (has_repeats(manifest)) csv("campaign_repeatability.csv", summary.repeatability);
   write_h5(directory / "campaign.h5", summary, manifest, command_line);
   written.insert(written.begin(), directory / "campaign.h5");
   return written;

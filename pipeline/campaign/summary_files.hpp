@@ -2,7 +2,8 @@
 // Writes the campaign summary beside the run folders: campaign.h5 (the four
 // tables as groups in the archive's table layout, with the manifest and the
 // tool's version) and campaign_runs.csv, campaign_events.csv,
-// campaign_stall.csv, campaign_static_polar.csv (only with static-polar runs).
+// campaign_stall.csv, campaign_static_polar.csv (only with static-polar runs),
+// campaign_repeatability.csv (only with repeated runs).
 // Each file is written as .partial and renamed when complete.
 #include <filesystem>
 #include <string>

@@ -23,7 +23,7 @@ constexpr double kRoundingTolerance = 1e-12;
 
 constexpr double kChord = 0.15, kVelocity = 25.0, kFrequency = 2.0, kAmplitudeDeg = 8.0;
 
-void write_run(const JobSettings& settings, const std::string& name, bool with_motion) {
+void write_run(const JobSettings& settings, const std::string& name, bool with_motion, double shift = 0.0) {
   RunStore s;
   s.put("run/name", Text{name});
   s.put("run/airfoil", Text{"KR-12 section"});
@@ -46,10 +46,10 @@ void write_run(const JobSettings& settings, const std::string& name, bool with_m
         .add({"quantity", "", std::vector<std::string>{"alpha_deg", "t_conv", "alpha_deg"}})
         .add({"units", "", std::vector<std::string>{"deg", "1", "deg"}})
         .add({"n", "1", std::vector<std::int64_t>{20, 20, 19}})
-        .add({"mean", "", std::vector<double>{17.5, 1.25, 18.0}})
+        .add({"mean", "", std::vector<double>{17.5 + shift, 1.25, 18.0}})
         .add({"std", "", std::vector<double>{0.4, 0.1, 0.5}})
-        .add({"ci95_lo", "", std::vector<double>{17.3, 1.2, 17.8}})
-        .add({"ci95_hi", "", std::vector<double>{17.7, 1.3, 18.2}});
+        .add({"ci95_lo", "", std::vector<double>{17.3 + shift, 1.2, 17.8}})
+        .add({"ci95_hi", "", std::vector<double>{17.7 + shift, 1.3, 18.2}});
     s.put("events/summary", events);
     Table cycles;
     cycles.add({"cycle", "1", std::vector<std::int64_t>{0, 1, 2}}).add({"valid", "1", std::vector<std::int64_t>{1, 0, 1}});
@@ -145,11 +145,12 @@ TEST_F(SummaryTest, TheStallTableHasARowPerDynamicRunWithOnsetAndDelay) {
 TEST_F(SummaryTest, TheHdf5SummaryAndTheCsvsAgreeWhenReadByH5pyAndPythonsCsv) {
   CampaignSummary s = summarise(manifest_, outcomes_, settings_);
   auto files = write_summary(s, manifest_, dir_.path(), "stallscope campaign test");
-  EXPECT_EQ(files.size(), 4u);
+  EXPECT_EQ(files.size(), 5u);
   EXPECT_FALSE(fs::exists(dir_ / "campaign_static_polar.csv"));  // no static-polar runs
+  EXPECT_TRUE(fs::exists(dir_ / "campaign_repeatability.csv"));   // "still" repeats "sine"
   for (const auto& f : files) EXPECT_TRUE(fs::exists(f)) << f;
   auto r = testing::run_python(testing::kSourceDir / "tests/campaign/check_summary.py",
-                               testing::shell_quote(dir_.path().string()) + " runs events stall");
+                               testing::shell_quote(dir_.path().string()) + " runs events stall repeatability");
   EXPECT_EQ(r.exit_code, 0) << r.out << r.err;
   std::printf("%s", r.out.c_str());
 }
@@ -174,6 +175,37 @@ TEST(TableBuilder, ColumnsMissingFromSomeRowsStayEmptyThere) {
   empty.declare("run", "", true);
   EXPECT_EQ(empty.table().columns.size(), 1u);
   EXPECT_EQ(empty.table().rows(), 0u);
+}
+
+// Repeats: the spread of the runs' means (sample std, n - 1) beside the
+// within-run CI half-width; hand values: means 17.5, 17.9, 17.7 -> std 0.2.
+TEST(CampaignRepeatability, RepeatedRunsGiveTheRunToRunSpreadBesideTheWithinRunInterval) {
+  ScratchDir dir;
+  JobSettings settings;
+  settings.output_directory = dir.path();
+  write_run(settings, "a", true);
+  write_run(settings, "a-r1", true, 0.4);
+  write_run(settings, "a-r2", true, 0.2);
+  write_run(settings, "b", true);
+  Manifest m;
+  m.name = "repeats";
+  m.path = dir / "campaign.toml";
+  m.runs = {run_named("a"), run_named("a-r1", "a"), run_named("a-r2", "a"), run_named("b")};
+  std::vector<RunOutcome> outcomes(4);
+  for (std::size_t i = 0; i < 4; ++i) outcomes[i] = {i, RunOutcome::State::kReduced, 1.0, "", 0};
+  const CampaignSummary s = summarise(m, outcomes, settings);
+  const Table& t = s.repeatability;
+  ASSERT_EQ(t.rows(), 3u) << "one row per event statistic of the repeated group; b has no repeats";
+  EXPECT_EQ(t.texts("run"), (std::vector<std::string>(3, "a")));
+  EXPECT_EQ(t.texts("event")[0], "stall_onset");
+  EXPECT_DOUBLE_EQ(at(t, "runs", 0), 3);
+  EXPECT_NEAR(at(t, "mean", 0), 17.7, 1e-12);
+  EXPECT_NEAR(at(t, "std_run_to_run", 0), 0.2, 1e-12);
+  EXPECT_NEAR(at(t, "ci95_half_width_within_run", 0), 0.2, 1e-12);
+  EXPECT_DOUBLE_EQ(at(t, "std_run_to_run", 1), 0.0);  // stall delay did not move
+  EXPECT_TRUE(std::isnan(at(t, "measurement_uncertainty", 0))) << "no [uncertainty] in these runs";
+  const auto files = write_summary(s, m, dir.path(), "test");
+  EXPECT_TRUE(fs::exists(dir / "campaign_repeatability.csv"));
 }
 
 }  // namespace

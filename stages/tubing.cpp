@@ -176,15 +176,14 @@ void TubingStage::run(RunContext& context) {
   if (options_.lines) lines = calib::read_lines_file(context.raw_input(*options_.lines, "lines file"));
   std::map<std::string, calib::MeasuredResponse> measured;
 
-  // Each tap's response. A Monte Carlo replica gives every tap its own line,
-  // its length and bore each off by the replica's draws.
+  // Each tap's response. A Monte Carlo replica puts each line's length and
+  // bore off by its draws; taps whose lines are specified alike share the
+  // draw (one cut length: correlated, so conservative for the loads).
   const Perturbation* mc = context.perturbation();
-  const bool perturbed_lines =
-      mc && (mc->model().tube_length_relative > 0 || mc->model().tube_diameter_relative > 0);
-  auto perturbed = [&](std::vector<calib::TubeSegment> segments, std::size_t tap) {
-    if (!perturbed_lines) return segments;
-    const double length = 1.0 + mc->error(mc->model().tube_length_relative, "tube_length", tap);
-    const double bore = 1.0 + mc->error(mc->model().tube_diameter_relative, "tube_diameter", tap);
+  auto perturbed = [&](std::vector<calib::TubeSegment> segments, const std::string& line) {
+    if (!mc) return segments;
+    const double length = 1.0 + mc->error(mc->model().tube_length_relative, "tube_length:" + line);
+    const double bore = 1.0 + mc->error(mc->model().tube_diameter_relative, "tube_diameter:" + line);
     for (auto& s : segments) {
       s.length *= std::max(length, 0.05);
       s.radius *= std::max(bore, 0.05);
@@ -212,19 +211,20 @@ void TubingStage::run(RunContext& context) {
         model[i] = "measured";
         key[i] = "line:" + tap.line;
       } else {
-        std::vector<calib::TubeSegment> segments = perturbed(d.segments, i);
+        std::vector<calib::TubeSegment> segments = perturbed(d.segments, tap.line);
         response[i] = [segments, air](double f) { return calib::line_response(segments, air, f); };
         model[i] = segments.size() == 1 ? "one_segment" : "series";
-        key[i] = perturbed_lines ? fmt::format("tap:{}", i) : "line:" + tap.line;
+        key[i] = "line:" + tap.line;
       }
     } else if (std::isfinite(tap.tube_length_m) && tap.tube_length_m > 0) {
       if (!(std::isfinite(tap.tube_diameter_m) && tap.tube_diameter_m > 0))
         throw InputError(taps.where(i), "has a tube_length_m but no tube_diameter_m");
-      const calib::TubeSegment seg = perturbed({{tap.tube_length_m, 0.5 * tap.tube_diameter_m,
-                                                  std::isfinite(tap.volume_m3) ? tap.volume_m3 : 0.0}}, i)[0];
+      const calib::TubeSegment nominal{tap.tube_length_m, 0.5 * tap.tube_diameter_m,
+                                       std::isfinite(tap.volume_m3) ? tap.volume_m3 : 0.0};
+      key[i] = fmt::format("tube:{:.17g}:{:.17g}:{:.17g}", nominal.length, nominal.radius, nominal.end_volume);
+      const calib::TubeSegment seg = perturbed({nominal}, key[i])[0];
       response[i] = [seg, air](double f) { return calib::tube_response(seg, air, f); };
       model[i] = "one_segment";
-      key[i] = fmt::format("tube:{:.17g}:{:.17g}:{:.17g}", seg.length, seg.radius, seg.end_volume);
     } else {
       model[i] = "none";
     }

@@ -43,7 +43,10 @@ double kirchhoff_normal_force(double cn_alpha, double alpha, double x) {
 std::optional<double> kirchhoff_separation(double cn, double cn_alpha, double alpha) {
   const double attached = cn_alpha * std::sin(alpha);
   if (attached == 0.0) return std::nullopt;
-  const double ratio = cn / attached;
+  return kirchhoff_separation(cn / attached);
+}
+
+double kirchhoff_separation(double ratio) {
   if (ratio <= 0.25) return 0.0;  // at or below the fully separated force (and of the wrong sign)
   const double root = 2.0 * std::sqrt(ratio) - 1.0;
   return std::min(1.0, root * root);
@@ -88,6 +91,24 @@ Eigen::VectorXd integrate_goman_khrabrov(const Eigen::VectorXd& t, const Eigen::
                                          std::optional<double> x_initial) {
   check_samples(t, alpha);
   return integrate_goman_khrabrov(t, alpha, derivative(t, alpha), x0, times, x_initial);
+}
+
+Eigen::VectorXd periodic_goman_khrabrov(const Eigen::VectorXd& t, const Eigen::VectorXd& alpha,
+                                        const Eigen::VectorXd& alpha_rate, double period,
+                                        const std::function<double(double)>& x0, const GomanKhrabrovTimes& times) {
+  const Eigen::Index n = t.size();
+  if (n == 0) return {};
+  if (!(period > t[n - 1] - t[0])) throw std::invalid_argument("Goman-Khrabrov: the period must exceed the record");
+  if (alpha.size() != n || alpha_rate.size() != n)
+    throw std::invalid_argument("Goman-Khrabrov: alpha and alpha_rate differ in length from t");
+  Eigen::VectorXd tc(n + 1), ac(n + 1), rc(n + 1);
+  tc << t, t[0] + period;
+  ac << alpha, alpha[0];
+  rc << alpha_rate, alpha_rate[0];
+  if (times.tau1 == 0.0) return integrate_goman_khrabrov(tc, ac, rc, x0, times).head(n);
+  const double free_decay = integrate_goman_khrabrov(tc, ac, rc, x0, times, 0.0)[n];
+  const double start = free_decay / -std::expm1(-period / times.tau1);
+  return integrate_goman_khrabrov(tc, ac, rc, x0, times, start).head(n);
 }
 
 std::complex<double> goman_khrabrov_harmonic_response(double omega, const GomanKhrabrovTimes& times) {

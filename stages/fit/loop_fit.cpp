@@ -81,6 +81,28 @@ Eigen::VectorXd mean_loop(const Eigen::MatrixXd& loops, const std::vector<Eigen:
   return sum.cwiseQuotient(count);  // 0/0 = NaN where no cycle fills the bin
 }
 
+bool summarise_bootstrap(BootstrapFit& out, const LoopFit& centre, Eigen::Index units) {
+  if (out.tau1.size() < 10 || units < 2) return false;
+  std::vector<double> sorted1 = out.tau1, sorted2 = out.tau2;
+  out.percentile_tau1[0] = numerics::percentile(sorted1, 0.025);
+  out.percentile_tau1[1] = numerics::percentile(sorted1, 0.975);
+  out.percentile_tau2[0] = numerics::percentile(sorted2, 0.025);
+  out.percentile_tau2[1] = numerics::percentile(sorted2, 0.975);
+  out.tau1_se = numerics::sample_std(out.tau1);
+  out.tau2_se = numerics::sample_std(out.tau2);
+  const double n = double(units), half = numerics::student_t_quantile(0.975, n - 1) * std::sqrt(n / (n - 1));
+  out.tau1_ci[0] = centre.tau1 - half * out.tau1_se;
+  out.tau1_ci[1] = centre.tau1 + half * out.tau1_se;
+  out.tau2_ci[0] = centre.tau2 - half * out.tau2_se;
+  out.tau2_ci[1] = centre.tau2 + half * out.tau2_se;
+  const Eigen::Map<const Eigen::VectorXd> a(out.tau1.data(), static_cast<Eigen::Index>(out.tau1.size()));
+  const Eigen::Map<const Eigen::VectorXd> b(out.tau2.data(), static_cast<Eigen::Index>(out.tau2.size()));
+  const Eigen::VectorXd da = a.array() - a.mean(), db = b.array() - b.mean();
+  const double den = std::sqrt(da.squaredNorm() * db.squaredNorm());
+  out.correlation = den > 0 ? da.dot(db) / den : NAN;
+  return true;
+}
+
 BootstrapFit bootstrap_over_cycles(const Eigen::MatrixXd& alpha_deg, const Eigen::MatrixXd& cn,
                                    const std::vector<bool>& in_window, double period_s, const FlowScales& flow,
                                    const StaticSeparation& x0, const FitOptions& options, const LoopFit& centre,
@@ -124,27 +146,10 @@ BootstrapFit bootstrap_over_cycles(const Eigen::MatrixXd& alpha_deg, const Eigen
     out.tau1.push_back(f.tau1);
     out.tau2.push_back(f.tau2);
   }
-  if (out.tau1.size() < 10) {
+  if (!summarise_bootstrap(out, centre, cycles)) {
     out.note = fmt::format("only {} of {} resamples fitted", out.tau1.size(), resamples);
     return out;
   }
-  std::vector<double> sorted1 = out.tau1, sorted2 = out.tau2;
-  out.percentile_tau1[0] = numerics::percentile(sorted1, 0.025);
-  out.percentile_tau1[1] = numerics::percentile(sorted1, 0.975);
-  out.percentile_tau2[0] = numerics::percentile(sorted2, 0.025);
-  out.percentile_tau2[1] = numerics::percentile(sorted2, 0.975);
-  out.tau1_se = numerics::sample_std(out.tau1);
-  out.tau2_se = numerics::sample_std(out.tau2);
-  const double n = double(cycles), half = numerics::student_t_quantile(0.975, n - 1) * std::sqrt(n / (n - 1));
-  out.tau1_ci[0] = centre.tau1 - half * out.tau1_se;
-  out.tau1_ci[1] = centre.tau1 + half * out.tau1_se;
-  out.tau2_ci[0] = centre.tau2 - half * out.tau2_se;
-  out.tau2_ci[1] = centre.tau2 + half * out.tau2_se;
-  const Eigen::Map<const Eigen::VectorXd> a(out.tau1.data(), static_cast<Eigen::Index>(out.tau1.size()));
-  const Eigen::Map<const Eigen::VectorXd> b(out.tau2.data(), static_cast<Eigen::Index>(out.tau2.size()));
-  const Eigen::VectorXd da = a.array() - a.mean(), db = b.array() - b.mean();
-  const double den = std::sqrt(da.squaredNorm() * db.squaredNorm());
-  out.correlation = den > 0 ? da.dot(db) / den : NAN;
   out.note = fmt::format("{} resamples of {} cycles, {} fitted; interval: centre -+ t(0.975, n-1) sqrt(n/(n-1)) x bootstrap standard error", resamples, cycles,
                          out.tau1.size());
   return out;

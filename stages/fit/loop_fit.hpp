@@ -56,6 +56,11 @@ BootstrapFit bootstrap_over_cycles(const Eigen::MatrixXd& alpha_deg, const Eigen
                                    const StaticSeparation& x0, const FitOptions& options, const LoopFit& centre,
                                    std::int64_t resamples, std::uint64_t seed, int threads = 1);
 
+// Intervals, standard errors and correlation from out.tau1/tau2 about the
+// centre fit, for resamples of `units` independent units (cycles or runs).
+// False (nothing set) for fewer than 10 fitted resamples or 2 units.
+bool summarise_bootstrap(BootstrapFit& out, const LoopFit& centre, Eigen::Index units);
+
 // The bin-wise mean of the chosen columns, skipping non-finite values.
 Eigen::VectorXd mean_loop(const Eigen::MatrixXd& loops, const std::vector<Eigen::Index>& columns);
 

@@ -235,7 +235,7 @@ RunFit fit_run(const RunLoops& r, const StaticSeparation& curve, const StaticPol
     FitOptions fo = o.fit;
     fo.lag = v.lag;
     const StaticSeparation other = StaticSeparation::from_polar(polar.alpha_deg, polar.cn, v.curve);
-    LoopFit f = fit_loop(r.alpha_deg, r.cn, r.window, r.period_s, r.flow, other, fo, &out.main);
+    LoopFit f = fit_loop(r.alpha_deg, r.cn, r.window, r.period_s, r.flow, other, fo);  // own grid start
     f.x_fitted.resize(0);
     f.cn_fitted.resize(0);
     out.sensitivity.push_back({v.name, std::move(f)});

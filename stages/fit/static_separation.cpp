@@ -36,6 +36,34 @@ void make_non_increasing(std::vector<double>& y) {
   for (std::size_t k = 0; k < level.size(); ++k) y.insert(y.end(), static_cast<std::size_t>(weight[k]), level[k]);
 }
 
+// Fritsch & Carlson (1980, SIAM J. Numer. Anal. 17(2)) slopes: the piecewise
+// cubic Hermite through the points keeps their monotonicity (harmonic mean of
+// neighbouring secants, zero at a local extremum).
+std::vector<double> monotone_slopes(const std::vector<double>& x, const std::vector<double>& y) {
+  const std::size_t n = x.size();
+  std::vector<double> secant(n - 1), d(n, 0.0);
+  for (std::size_t i = 0; i + 1 < n; ++i) secant[i] = (y[i + 1] - y[i]) / std::max(x[i + 1] - x[i], 1e-12);
+  d[0] = secant[0];
+  d[n - 1] = secant[n - 2];
+  for (std::size_t i = 1; i + 1 < n; ++i)
+    if (secant[i - 1] * secant[i] > 0) {
+      const double w1 = 2 * (x[i + 1] - x[i]) + (x[i] - x[i - 1]), w2 = (x[i + 1] - x[i]) + 2 * (x[i] - x[i - 1]);
+      d[i] = (w1 + w2) / (w1 / secant[i - 1] + w2 / secant[i]);
+    }
+  for (std::size_t i : {std::size_t{0}, n - 1})
+    if (d[i] * secant[i == 0 ? 0 : n - 2] <= 0) d[i] = 0;
+  return d;
+}
+
+double hermite(const std::vector<double>& x, const std::vector<double>& y, const std::vector<double>& d, std::size_t i,
+               double at) {
+  const double h = x[i + 1] - x[i];
+  if (!(h > 0)) return y[i];
+  const double t = (at - x[i]) / h, t2 = t * t, t3 = t2 * t;
+  return (2 * t3 - 3 * t2 + 1) * y[i] + (t3 - 2 * t2 + t) * h * d[i] + (-2 * t3 + 3 * t2) * y[i + 1] +
+         (t3 - t2) * h * d[i + 1];
+}
+
 }  // namespace
 
 StaticSeparation StaticSeparation::from_polar(const std::vector<double>& alpha_deg, const std::vector<double>& cn,
@@ -118,9 +146,11 @@ StaticSeparation StaticSeparation::from_polar(const std::vector<double>& alpha_d
     s.tanh_ = {best.parameters[0], best.parameters[1]};
   }
 
-  // Uniform lookup table of the chosen curve, 10 deg beyond the data each side.
+  // Uniform lookup table of the chosen curve (the points joined by a monotone
+  // cubic, so the fit's cost has no kinks to stop in), 10 deg beyond the data each side.
   s.grid_start_ = (s.alpha_deg_.front() - 10.0) * kDeg;
   s.grid_step_ = kGridStepDeg * kDeg;
+  const std::vector<double> slopes = monotone_slopes(s.alpha_deg_, s.smooth_);
   const auto cells = static_cast<std::size_t>(std::ceil((s.alpha_deg_.back() - s.alpha_deg_.front() + 20.0) / kGridStepDeg));
   for (std::size_t j = 0; j <= cells; ++j) {
     const double a = s.grid_start_ + double(j) * s.grid_step_;
@@ -132,11 +162,7 @@ StaticSeparation StaticSeparation::from_polar(const std::vector<double>& alpha_d
     const auto up = std::upper_bound(s.alpha_deg_.begin(), s.alpha_deg_.end(), ad) - s.alpha_deg_.begin();
     if (up == 0) s.grid_.push_back(s.smooth_.front());
     else if (static_cast<std::size_t>(up) == n) s.grid_.push_back(s.smooth_.back());
-    else {
-      const auto i = static_cast<std::size_t>(up - 1);
-      const double w = (ad - s.alpha_deg_[i]) / (s.alpha_deg_[i + 1] - s.alpha_deg_[i]);
-      s.grid_.push_back((1 - w) * s.smooth_[i] + w * s.smooth_[i + 1]);
-    }
+    else s.grid_.push_back(hermite(s.alpha_deg_, s.smooth_, slopes, static_cast<std::size_t>(up - 1), ad));
   }
   return s;
 }

@@ -9,8 +9,8 @@
 // the inversion is ill-conditioned near alpha_0). Noisy data are smoothed by a
 // running mean over `smoothing_points` neighbours (sorted by alpha) and made
 // monotone away from alpha_0 (pool-adjacent-violators: separation only grows
-// with |alpha - alpha_0| in a static polar). Between points x0 is linear; beyond
-// the ends, constant. The parametric alternative x0 = (1 - tanh(s (alpha - alpha*)))/2
+// with |alpha - alpha_0| in a static polar). Between points x0 is a monotone
+// cubic (Fritsch-Carlson); beyond the ends, constant. The parametric alternative x0 = (1 - tanh(s (alpha - alpha*)))/2
 // is always fitted to the same points and may be chosen instead.
 #include <limits>
 #include <string>

@@ -107,6 +107,14 @@ kirchhoff_angle = "alpha"   # the generator's Kirchhoff form
   EXPECT_GT(std::get<double>(*critical), 1.0);
   EXPECT_EQ(store.get<Table>("fit/onset").rows(), 8u);
 
+  // The report draws the overlay and states the constants.
+  r = run_stallscope("report " + shell_quote((dir / "out" / "fit-synth.h5").string()));
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  const std::string page = stallscope::testing::read_text(dir / "out" / "report" / "index.html");
+  EXPECT_NE(page.find("<section id=\"fit\">"), std::string::npos);
+  EXPECT_NE(page.find("data-key=\"fit/summary/tau1_conv\""), std::string::npos);
+  EXPECT_TRUE(std::filesystem::exists(dir / "out" / "report" / "fit_loop.svg"));
+
   // Refit without re-reducing: the archive carries its static polar; the same
   // settings give the same constants. Two archives add the shared fit.
   dir.write("fit.toml", "[fit]\nkirchhoff_angle = \"alpha\"\n");

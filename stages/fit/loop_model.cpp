@@ -34,8 +34,14 @@ LoopModel::LoopModel(const Eigen::VectorXd& alpha_deg, double period_s, const Fl
   if (lag == AttachedLag::kQuasiSteady) {
     alpha_e_ = alpha_;
     cn_nc_ = Eigen::VectorXd::Zero(n);
-    return;
+  } else {
+    theodorsen_response(flow);
   }
+  attached_ = alpha_e_.unaryExpr([&x0](double a) { return x0.attached_angle(a); });
+}
+
+void LoopModel::theodorsen_response(const FlowScales& flow) {
+  const Eigen::Index n = alpha_.size();
   // One-sided Fourier series alpha = A_0 + sum Re[A_m e^{i m omega t}], each
   // harmonic through Theodorsen's transfer functions.
   const double a = theory::pitch_axis_from_pivot(flow.pivot_x_over_c);
@@ -45,12 +51,20 @@ LoopModel::LoopModel(const Eigen::VectorXd& alpha_deg, double period_s, const Fl
   // e^{i m omega t_b} by running products (one complex exponential per bin).
   Eigen::VectorXcd step(n), power = Eigen::VectorXcd::Ones(n);
   for (Eigen::Index b = 0; b < n; ++b) step[b] = std::exp(i * (2 * kPi * t_[b] / period_));
+  // C(mk) for the harmonics, kept per thread: a bootstrap builds many models of one k.
+  thread_local double cached_k = -1.0;
+  thread_local std::vector<std::complex<double>> cached;
+  if (cached_k != k_ || cached.size() < static_cast<std::size_t>(n / 2)) {
+    cached.clear();
+    for (Eigen::Index m = 1; m <= n / 2; ++m) cached.push_back(theory::theodorsen(double(m) * k_));
+    cached_k = k_;
+  }
   for (Eigen::Index m = 1; m <= n / 2; ++m) {
     power = power.cwiseProduct(step);
     const std::complex<double> am =
         (power.conjugate().array() * alpha_.array()).sum() * ((2 * m == n ? 1.0 : 2.0) / double(n));
     const double km = double(m) * k_;
-    const std::complex<double> circulatory = theory::theodorsen(km) * (1.0 + i * km * (0.5 - a)) * am;
+    const std::complex<double> circulatory = cached[static_cast<std::size_t>(m - 1)] * (1.0 + i * km * (0.5 - a)) * am;
     const std::complex<double> apparent = kPi * (i * km + a * km * km) * am;
     alpha_e_ += (power * circulatory).real();
     cn_nc_ += (power * apparent).real();
@@ -62,7 +76,9 @@ Eigen::VectorXd LoopModel::normal_force(const theory::GomanKhrabrovTimes& tau, E
   const Eigen::VectorXd x =
       theory::periodic_goman_khrabrov(t_, alpha_, rate_, period_, [&x0](double a) { return x0(a); }, tau);
   Eigen::VectorXd cn(x.size());
-  for (Eigen::Index b = 0; b < x.size(); ++b) cn[b] = x0.normal_force(alpha_e_[b], x[b]) + cn_nc_[b];
+  const double slope = x0.lift_slope_per_rad();
+  for (Eigen::Index b = 0; b < x.size(); ++b)
+    cn[b] = slope * StaticSeparation::kirchhoff_factor(x[b]) * attached_[b] + cn_nc_[b];
   if (x_out) *x_out = x;
   return cn;
 }

@@ -47,9 +47,11 @@ class LoopModel {
   double lowest_static_separation() const;
 
  private:
+  void theodorsen_response(const FlowScales& flow);
+
   const StaticSeparation* x0_;
   double period_ = 0, k_ = 0;
-  Eigen::VectorXd t_, alpha_, rate_, alpha_e_, cn_nc_;
+  Eigen::VectorXd t_, alpha_, rate_, alpha_e_, cn_nc_, attached_;  // attached_: g(alpha_E - alpha_0)
 };
 
 }  // namespace stallscope::fit

@@ -181,9 +181,13 @@ double StaticSeparation::attached_angle(double alpha) const {
   return options_.angle == KirchhoffAngle::kSine ? std::sin(a) : a;
 }
 
-double StaticSeparation::normal_force(double alpha, double x) const {
+double StaticSeparation::kirchhoff_factor(double x) {
   const double f = 0.5 * (1.0 + std::sqrt(std::clamp(x, 0.0, 1.0)));
-  return cn_alpha_ * f * f * attached_angle(alpha);
+  return f * f;
+}
+
+double StaticSeparation::normal_force(double alpha, double x) const {
+  return cn_alpha_ * kirchhoff_factor(x) * attached_angle(alpha);
 }
 
 std::string StaticSeparation::description() const {

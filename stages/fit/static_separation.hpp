@@ -44,6 +44,8 @@ class StaticSeparation {
   // The attached-flow angle function g(alpha - alpha_0) and the Kirchhoff Cn.
   double attached_angle(double alpha) const;
   double normal_force(double alpha, double x) const;
+  // ((1 + sqrt x)/2)^2, x clipped to [0, 1]: Cn over its attached value.
+  static double kirchhoff_factor(double x);
 
   double lift_slope_per_rad() const { return cn_alpha_; }
   double zero_lift_angle_rad() const { return alpha0_; }

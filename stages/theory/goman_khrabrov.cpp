@@ -71,14 +71,19 @@ Eigen::VectorXd integrate_goman_khrabrov(const Eigen::VectorXd& t, const Eigen::
   auto forcing = [&](Eigen::Index i) { return x0(alpha[i] - times.tau2 * alpha_rate[i]); };
   double u_prev = forcing(0);
   x[0] = x_initial.value_or(u_prev);
+  double h_prev = -1.0, decay = 0.0, ramp_weight = 0.0;
   for (Eigen::Index i = 1; i < n; ++i) {
     const double u = forcing(i);
     if (times.tau1 == 0.0) {
       x[i] = u;  // no lag: the state follows the forcing
     } else {
-      const double r = (t[i] - t[i - 1]) / times.tau1;
-      const double decay = -std::expm1(-r);        // 1 - E
-      const double ramp_weight = 1.0 - decay / r;  // about r/2 for small r
+      const double h = t[i] - t[i - 1];
+      if (h != h_prev) {  // uniform sampling: the weights of one step serve them all
+        const double r = h / times.tau1;
+        decay = -std::expm1(-r);        // 1 - E
+        ramp_weight = 1.0 - decay / r;  // about r/2 for small r
+        h_prev = h;
+      }
       x[i] = (1.0 - decay) * x[i - 1] + decay * u_prev + (u - u_prev) * ramp_weight;
     }
     u_prev = u;
@@ -106,9 +111,11 @@ Eigen::VectorXd periodic_goman_khrabrov(const Eigen::VectorXd& t, const Eigen::V
   ac << alpha, alpha[0];
   rc << alpha_rate, alpha_rate[0];
   if (times.tau1 == 0.0) return integrate_goman_khrabrov(tc, ac, rc, x0, times).head(n);
-  const double free_decay = integrate_goman_khrabrov(tc, ac, rc, x0, times, 0.0)[n];
-  const double start = free_decay / -std::expm1(-period / times.tau1);
-  return integrate_goman_khrabrov(tc, ac, rc, x0, times, start).head(n);
+  // Linear in the initial value: the response from x = 0 plus start e^{-(t - t0)/tau1}.
+  Eigen::VectorXd x = integrate_goman_khrabrov(tc, ac, rc, x0, times, 0.0);
+  const double start = x[n] / -std::expm1(-period / times.tau1);
+  for (Eigen::Index i = 0; i < n; ++i) x[i] += start * std::exp(-(t[i] - t[0]) / times.tau1);
+  return x.head(n);
 }
 
 std::complex<double> goman_khrabrov_harmonic_response(double omega, const GomanKhrabrovTimes& times) {

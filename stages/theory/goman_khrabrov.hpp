@@ -55,9 +55,10 @@ Eigen::VectorXd integrate_goman_khrabrov(const Eigen::VectorXd& t, const Eigen::
 
 // The periodic steady state of the same equation for one period of samples
 // t[0..n-1] (t[n-1] - t[0] < period; the motion repeats with that period): the
-// record is closed back to its first sample one period on, integrated once from
-// x = 0 to find the free decay, and again from the initial value that makes the
-// response repeat, x(0) = x_end / (1 - exp(-period/tau1)) (linear equation).
+// record is closed back to its first sample one period on and integrated once
+// from x = 0; the equation being linear, the initial value that makes the
+// response repeat, x(0) = x_end / (1 - exp(-period/tau1)), is then added as its
+// free decay x(0) exp(-(t - t0)/tau1).
 Eigen::VectorXd periodic_goman_khrabrov(const Eigen::VectorXd& t, const Eigen::VectorXd& alpha,
                                         const Eigen::VectorXd& alpha_rate, double period,
                                         const std::function<double(double)>& x0, const GomanKhrabrovTimes& times);

@@ -13,6 +13,7 @@
 #include "pipeline/config.hpp"
 #include "pipeline/csv_writer.hpp"
 #include "pipeline/errors.hpp"
+#include "pipeline/hdf5.hpp"
 #include "stages/fit/campaign_fit.hpp"
 #include "stages/fit/fit_stage.hpp"
 #include "stages/fit/static_polar_source.hpp"
@@ -35,26 +36,43 @@ std::string interval(double lo, double hi) {
   return std::isfinite(lo) ? fmt::format("[{:.3g}, {:.3g}]", lo, hi) : "(no interval)";
 }
 
+// The [fit] options in force when the archive was reduced (its provenance), so
+// a refit repeats the reduction's fit; defaults when it had no fit stage.
+FitSettings archive_settings(const std::filesystem::path& archive) {
+  FitSettings settings;
+  for (const StageRecord& stage : read_provenance(archive).stages)
+    if (stage.name == "fit") {
+      const ConfigFile file = ConfigFile::parse(stage.parameters, archive);
+      ConfigSection section(file, "fit", &file.table());
+      configure_fit_settings(section, settings);
+    }
+  return settings;
+}
+
 }  // namespace
 
 int refit_archives(const RefitRequest& request, std::ostream& out) {
-  FitSettings settings;
+  std::optional<FitSettings> configured;
   std::optional<std::filesystem::path> config_polar;
   if (request.config) {
+    FitSettings settings;
     const ConfigFile file = ConfigFile::load(*request.config);
     ConfigSection section(file, "fit");
     config_polar = section.optional_path("static_polar_archive");
     if (!config_polar) config_polar = section.optional_path("static_polar_csv");
     configure_fit_settings(section, settings);
     section.reject_unknown_keys();
+    configured = settings;
   }
-  if (request.bootstrap_resamples) settings.bootstrap_resamples = *request.bootstrap_resamples;
   std::optional<StaticPolarPoints> common;
   if (request.static_polar) common = read_static_polar(*request.static_polar, "--static-polar");
   else if (config_polar) common = read_static_polar(*config_polar, request.config->string() + " [fit]");
 
   std::deque<CampaignRun> runs;
+  FitSettings settings;  // of the last archive: the shared fit uses its bounds and bootstrap
   for (const auto& archive : request.archives) {
+    settings = configured ? *configured : archive_settings(archive);
+    if (request.bootstrap_resamples) settings.bootstrap_resamples = *request.bootstrap_resamples;
     RunStore store = read_archive(archive);
     std::optional<StaticPolarPoints> polar = common ? common : polar_from_store(store, archive.filename().string());
     if (!polar)
@@ -97,6 +115,20 @@ int refit_archives(const RefitRequest& request, std::ostream& out) {
   }
   out << "written to " << request.output_directory.string() << "\n";
   return 0;
+}
+
+std::vector<std::filesystem::path> fit_campaign(const std::vector<std::filesystem::path>& archives,
+                                                const std::filesystem::path& folder, int threads, std::ostream& out) {
+  RefitRequest request;
+  for (const auto& a : archives) {
+    const h5::File file = h5::File::open_read(a);
+    if (h5::exists(file.id(), "fit/summary")) request.archives.push_back(a);
+  }
+  if (request.archives.size() < 2) return {};
+  request.output_directory = folder;
+  request.threads = threads;
+  refit_archives(request, out);
+  return {folder / "campaign_fit.csv", folder / "campaign_trend.csv"};
 }
 
 std::optional<int> run_fit_command(int argc, char** argv) {

@@ -25,6 +25,14 @@ struct RefitRequest {
 // Returns the exit code; InputError propagates (exit 2 in main).
 int refit_archives(const RefitRequest& request, std::ostream& out);
 
+// Without --config, each archive is refitted with the [fit] options its
+// reduction used (from its provenance).
+
+// The campaign-wide fit at the end of `stallscope campaign`: the archives that
+// hold a fit (two or more) refitted into folder; returns the campaign files.
+std::vector<std::filesystem::path> fit_campaign(const std::vector<std::filesystem::path>& archives,
+                                                const std::filesystem::path& folder, int threads, std::ostream& out);
+
 // nullopt unless argv[1] is "fit"; otherwise parses the rest and runs refit_archives.
 std::optional<int> run_fit_command(int argc, char** argv);
 

@@ -128,6 +128,12 @@ kirchhoff_angle = "alpha"   # the generator's Kirchhoff form
   const std::string again = stallscope::testing::read_text(dir / "refit" / "fit-synth" / "fit_summary.csv");
   EXPECT_NE(again.find(std::to_string(tau1).substr(0, 6)), std::string::npos) << again.substr(0, 400);
 
+  // Without --config the archive's own [fit] options (its provenance) are used.
+  r = run_stallscope("fit " + archive + " -o " + shell_quote((dir / "refit_default").string()) + " --bootstrap 0");
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  const std::string own = stallscope::testing::read_text(dir / "refit_default" / "fit-synth" / "fit_summary.csv");
+  EXPECT_NE(own.find(std::to_string(tau1).substr(0, 6)), std::string::npos) << own.substr(0, 400);
+
   // A missing polar for an archive that has none is one clear line, exit 2.
   r = run_stallscope("fit " + shell_quote((dir / "raw" / "truth.h5").string()) + " -o " +
                      shell_quote((dir / "bad").string()));

@@ -10,9 +10,11 @@
 
 #include <cmath>
 #include <numbers>
+#include <sstream>
 
 #include "pipeline/archive.hpp"
 #include "pipeline/hdf5.hpp"
+#include "stages/fit/fit_command.hpp"
 #include "stages/theory/goman_khrabrov.hpp"
 #include "tests/support/test_support.hpp"
 
@@ -127,6 +129,14 @@ kirchhoff_angle = "alpha"   # the generator's Kirchhoff form
   EXPECT_NE(campaign.find("\nshared,fitted"), std::string::npos) << campaign;
   const std::string again = stallscope::testing::read_text(dir / "refit" / "fit-synth" / "fit_summary.csv");
   EXPECT_NE(again.find(std::to_string(tau1).substr(0, 6)), std::string::npos) << again.substr(0, 400);
+
+  // What `stallscope campaign` calls at its end: archives without a fit are skipped.
+  std::ostringstream lines;
+  const auto files = fit::fit_campaign({dir / "out" / "fit-synth.h5", dir / "raw" / "truth.h5", dir / "out" / "fit-synth.h5"},
+                                       dir / "campaign_fit", 1, lines);
+  ASSERT_EQ(files.size(), 2u) << lines.str();
+  for (const auto& f : files) EXPECT_TRUE(std::filesystem::exists(f)) << f;
+  EXPECT_TRUE(fit::fit_campaign({dir / "out" / "fit-synth.h5"}, dir / "one", 1, lines).empty());
 
   // Without --config the archive's own [fit] options (its provenance) are used.
   r = run_stallscope("fit " + archive + " -o " + shell_quote((dir / "refit_default").string()) + " --bootstrap 0");

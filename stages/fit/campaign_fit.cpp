@@ -2,6 +2,7 @@
 
 #include <fmt/format.h>
 
+#include <algorithm>
 #include <random>
 
 #include "stages/fit/least_squares.hpp"
@@ -113,8 +114,12 @@ std::vector<Trend> constant_trends(const std::deque<CampaignRun>& runs) {
         sxx += (x[i] - mx) * (x[i] - mx);
         sxy += (x[i] - mx) * (y[i] - my);
       }
+      // Below this spread the runs share one condition (a measured mean angle scatters by millidegrees).
+      const double min_spread = std::string(regressor) == "reduced_frequency" ? 0.005 : 0.5;
+      const auto [lo, hi] = std::minmax_element(x.begin(), x.end());
       if (x.size() < 3) t.note = "a trend needs at least 3 fitted runs";
-      else if (!(sxx > 1e-12 * (1 + mx * mx) * double(x.size()))) t.note = std::string("the runs share one ") + regressor;
+      else if (*hi - *lo < min_spread)
+        t.note = fmt::format("the runs share one {} (spread {:.3g}, below {})", regressor, *hi - *lo, min_spread);
       else {
         t.slope = sxy / sxx;
         t.intercept = my - t.slope * mx;

@@ -3,7 +3,8 @@
 // (all runs' windowed residuals in one least-squares problem, each run with its
 // own static curve and attached lag), an interval from a bootstrap over runs,
 // and the trend of the per-run constants with reduced frequency and mean
-// angle (least-squares line, slope -+ t(0.975, n-2) se) -- are they constant?
+// angle (least-squares line, slope -+ t(0.975, n-2) se; none when the runs
+// span less than 0.005 in k or 0.5 deg in mean angle) -- are they constant?
 #include <deque>
 #include <string>
 #include <vector>

@@ -8,6 +8,7 @@
 #include <numbers>
 #include <random>
 
+#include "stages/fit/campaign_fit.hpp"
 #include "stages/fit/least_squares.hpp"
 #include "stages/fit/loop_fit.hpp"
 #include "stages/theory/theodorsen.hpp"
@@ -226,6 +227,34 @@ TEST(LoopFit, BootstrapIntervalsCoverTheTruthAtTheirStatedRate) {
               percentile1, percentile2);
   EXPECT_GE(covered1, 33);
   EXPECT_GE(covered2, 33);
+}
+
+}  // namespace
+}  // namespace stallscope::fit
+
+namespace stallscope::fit {
+namespace {
+
+TEST(CampaignTrend, SlopeOfExactlyLinearConstantsAndNoneWithoutSpread) {
+  std::deque<CampaignRun> runs;
+  for (double k : {0.05, 0.1, 0.15, 0.2}) {
+    CampaignRun r;
+    r.loops.reduced_frequency = k;
+    r.loops.alpha_mean_deg = 10.0 + 1e-3 * k;  // one condition, measured with scatter
+    r.fit.main.fitted = true;
+    r.fit.main.tau1 = 1.0 + 10.0 * k;
+    r.fit.main.tau2 = 3.0;
+    runs.push_back(std::move(r));
+  }
+  const auto trends = constant_trends(runs);
+  ASSERT_EQ(trends.size(), 4u);
+  EXPECT_EQ(trends[0].constant, "tau1_conv");
+  EXPECT_EQ(trends[0].regressor, "reduced_frequency");
+  EXPECT_NEAR(trends[0].slope, 10.0, 1e-12);
+  EXPECT_NEAR(trends[0].intercept, 1.0, 1e-12);
+  EXPECT_NEAR(trends[0].slope_hi - trends[0].slope_lo, 0.0, 1e-9);  // no scatter about the line
+  EXPECT_TRUE(std::isnan(trends[1].slope)) << trends[1].note;      // mean angle does not vary
+  EXPECT_NEAR(trends[2].slope, 0.0, 1e-12);
 }
 
 }  // namespace

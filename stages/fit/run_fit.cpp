@@ -76,8 +76,9 @@ Exclusion exclusion(const FitSettings& o, double onset, double te_passage, doubl
     }
     return x;
   }
-  if (std::isfinite(te_passage)) {
-    x.end = (te_passage < onset ? te_passage + 360.0 : te_passage) + o.vortex_clearance_conv * deg_per_conv;
+  const double te = te_passage < onset ? te_passage + 360.0 : te_passage;
+  if (std::isfinite(te) && te - onset < 180.0) {  // a passage half a cycle after onset is another cycle's
+    x.end = te + o.vortex_clearance_conv * deg_per_conv;
     x.how = fmt::format("stall onset to the vortex trailing-edge passage + {} c/U", o.vortex_clearance_conv);
   } else {
     x.end = fallback;

@@ -14,6 +14,7 @@
 #include "pipeline/inspect.hpp"
 #include "pipeline/reduce.hpp"
 #include "pipeline/registry.hpp"
+#include "stages/fit/fit_command.hpp"
 #include "tools/synth/synth_command.hpp"
 #include "pipeline/report/report.hpp"
 #include "stallscope/version.hpp"
@@ -31,6 +32,7 @@ std::string joined_command_line(int argc, char** argv) {
 int run(int argc, char** argv) {
   if (auto code = calib::run_transducer_command(argc, argv)) return *code;
   if (auto code = calib::run_calib_command(argc, argv)) return *code;
+  if (auto code = fit::run_fit_command(argc, argv)) return *code;
   CLI::App app{"stallscope: reduce wind-tunnel data of pitching airfoils in dynamic stall"};
   app.set_version_flag("--version", fmt::format("stallscope {} (commit {})", kToolVersion, kGitCommit));
   app.require_subcommand(1);

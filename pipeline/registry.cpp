@@ -14,6 +14,7 @@
 #include "stages/damping.hpp"
 #include "stages/static_polar.hpp"
 #include "stages/events/events_stage.hpp"
+#include "stages/fit/fit_stage.hpp"
 #include "stages/piv/piv_stage.hpp"
 #include "stages/piv/vortex_stage.hpp"
 

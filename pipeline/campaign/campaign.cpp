@@ -3,6 +3,7 @@
 #include <chrono>
 #include <cstdio>
 #include <optional>
+#include <sstream>
 
 #include <fmt/format.h>
 
@@ -16,6 +17,7 @@
 #include "pipeline/errors.hpp"
 #include "pipeline/progress.hpp"
 #include "pipeline/report/campaign_page.hpp"
+#include "stages/fit/fit_command.hpp"
 
 namespace stallscope::campaign {
 
@@ -128,6 +130,12 @@ int run_campaign(const CampaignRequest& request, std::ostream& out) {
           }
         }
       auto files = write_summary(summary, manifest, request.output_directory, request.command_line);
+      std::vector<std::filesystem::path> archives;  // the campaign-wide Goman-Khrabrov fit, if runs have [fit]
+      for (std::size_t i = 0; i < manifest.runs.size(); ++i)
+        if (outcomes[i].state != RunOutcome::State::kFailed) archives.push_back(run_archive(settings, manifest.runs[i]));
+      std::ostringstream fit_lines;  // per-run lines repeat the runs' own summaries: only the files are listed
+      for (auto& f : fit::fit_campaign(archives, request.output_directory / "fit", plan.threads_per_run, fit_lines))
+        files.push_back(f);
       if (request.draw_report) files.push_back(draw_campaign_page(summary, manifest, settings, files));
       const double seconds = std::chrono::duration<double>(Clock::now() - started).count();
       out << report(manifest, outcomes, summary.failed, seconds, files);

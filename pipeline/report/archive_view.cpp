@@ -18,7 +18,8 @@ namespace {
 // at the top of the layout (/cycles) must come back whole.
 constexpr const char* kTables[] = {"cycles",        "cycles/damping",   "events/per_cycle", "events/summary",
                                    "vortex/tracks", "vortex/per_track", "vortex/events_per_cycle",
-                                   "pressure/taps", "phase/loads",      "piv/detections", "piv/frames"};
+                                   "pressure/taps", "phase/loads",      "piv/detections", "piv/frames",
+                                   "fit/summary",   "fit/loop"};
 
 std::optional<Table> read_table(hid_t file, const std::string& file_name, const std::string& path) {
   if (!h5::exists(file, path) || !h5::is_group(file, path) || !h5::has_attribute(file, path, "columns"))

@@ -53,6 +53,7 @@ ReportResult write_report(const fs::path& archive, const fs::path& folder_in) {
   add(events_section(view, plots));
   add(vortex_section(view, plots));
   add(damping_section(view, plots));
+  add(fit_section(view, plots));
   sections.push_back(provenance_section(view));
 
   ReportResult result;

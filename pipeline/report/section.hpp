@@ -49,6 +49,7 @@ std::optional<Section> pressure_section(const ArchiveView& archive, PlotFolder& 
 std::optional<Section> events_section(const ArchiveView& archive, PlotFolder& plots);
 std::optional<Section> vortex_section(const ArchiveView& archive, PlotFolder& plots);
 std::optional<Section> damping_section(const ArchiveView& archive, PlotFolder& plots);
+std::optional<Section> fit_section(const ArchiveView& archive, PlotFolder& plots);
 Section provenance_section(const ArchiveView& archive);
 
 // Event timing shared by sections: each event's mean phase over valid cycles.

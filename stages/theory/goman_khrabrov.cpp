@@ -43,7 +43,10 @@ double kirchhoff_normal_force(double cn_alpha, double alpha, double x) {
 std::optional<double> kirchhoff_separation(double cn, double cn_alpha, double alpha) {
   const double attached = cn_alpha * std::sin(alpha);
   if (attached == 0.0) return std::nullopt;
-  const double ratio = cn / attached;
+  return kirchhoff_separation(cn / attached);
+}
+
+double kirchhoff_separation(double ratio) {
   if (ratio <= 0.25) return 0.0;  // at or below the fully separated force (and of the wrong sign)
   const double root = 2.0 * std::sqrt(ratio) - 1.0;
   return std::min(1.0, root * root);
@@ -68,14 +71,19 @@ Eigen::VectorXd integrate_goman_khrabrov(const Eigen::VectorXd& t, const Eigen::
   auto forcing = [&](Eigen::Index i) { return x0(alpha[i] - times.tau2 * alpha_rate[i]); };
   double u_prev = forcing(0);
   x[0] = x_initial.value_or(u_prev);
+  double h_prev = -1.0, decay = 0.0, ramp_weight = 0.0;
   for (Eigen::Index i = 1; i < n; ++i) {
     const double u = forcing(i);
     if (times.tau1 == 0.0) {
       x[i] = u;  // no lag: the state follows the forcing
     } else {
-      const double r = (t[i] - t[i - 1]) / times.tau1;
-      const double decay = -std::expm1(-r);        // 1 - E
-      const double ramp_weight = 1.0 - decay / r;  // about r/2 for small r
+      const double h = t[i] - t[i - 1];
+      if (h != h_prev) {  // uniform sampling: the weights of one step serve them all
+        const double r = h / times.tau1;
+        decay = -std::expm1(-r);        // 1 - E
+        ramp_weight = 1.0 - decay / r;  // about r/2 for small r
+        h_prev = h;
+      }
       x[i] = (1.0 - decay) * x[i - 1] + decay * u_prev + (u - u_prev) * ramp_weight;
     }
     u_prev = u;
@@ -88,6 +96,26 @@ Eigen::VectorXd integrate_goman_khrabrov(const Eigen::VectorXd& t, const Eigen::
                                          std::optional<double> x_initial) {
   check_samples(t, alpha);
   return integrate_goman_khrabrov(t, alpha, derivative(t, alpha), x0, times, x_initial);
+}
+
+Eigen::VectorXd periodic_goman_khrabrov(const Eigen::VectorXd& t, const Eigen::VectorXd& alpha,
+                                        const Eigen::VectorXd& alpha_rate, double period,
+                                        const std::function<double(double)>& x0, const GomanKhrabrovTimes& times) {
+  const Eigen::Index n = t.size();
+  if (n == 0) return {};
+  if (!(period > t[n - 1] - t[0])) throw std::invalid_argument("Goman-Khrabrov: the period must exceed the record");
+  if (alpha.size() != n || alpha_rate.size() != n)
+    throw std::invalid_argument("Goman-Khrabrov: alpha and alpha_rate differ in length from t");
+  Eigen::VectorXd tc(n + 1), ac(n + 1), rc(n + 1);
+  tc << t, t[0] + period;
+  ac << alpha, alpha[0];
+  rc << alpha_rate, alpha_rate[0];
+  if (times.tau1 == 0.0) return integrate_goman_khrabrov(tc, ac, rc, x0, times).head(n);
+  // Linear in the initial value: the response from x = 0 plus start e^{-(t - t0)/tau1}.
+  Eigen::VectorXd x = integrate_goman_khrabrov(tc, ac, rc, x0, times, 0.0);
+  const double start = x[n] / -std::expm1(-period / times.tau1);
+  for (Eigen::Index i = 0; i < n; ++i) x[i] += start * std::exp(-(t[i] - t[0]) / times.tau1);
+  return x.head(n);
 }
 
 std::complex<double> goman_khrabrov_harmonic_response(double omega, const GomanKhrabrovTimes& times) {

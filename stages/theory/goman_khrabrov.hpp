@@ -18,6 +18,9 @@ double kirchhoff_normal_force(double cn_alpha, double alpha, double x);
 // clipped to [0, 1] (forces below the fully separated value give 0). Empty where
 // Cn_alpha sin(alpha) = 0, since Cn then carries no information about x.
 std::optional<double> kirchhoff_separation(double cn, double cn_alpha, double alpha);
+// The same from the ratio of the force to its attached value, Cn / (Cn_alpha sin alpha)
+// (or any other attached form, such as Cn_alpha alpha).
+double kirchhoff_separation(double force_ratio);
 
 // Static separation fit x0 = (1 - tanh(steepness (alpha - alpha_star))) / 2.
 struct SeparationFit {
@@ -49,6 +52,16 @@ Eigen::VectorXd integrate_goman_khrabrov(const Eigen::VectorXd& t, const Eigen::
 Eigen::VectorXd integrate_goman_khrabrov(const Eigen::VectorXd& t, const Eigen::VectorXd& alpha,
                                          const std::function<double(double)>& x0, const GomanKhrabrovTimes& times,
                                          std::optional<double> x_initial = std::nullopt);
+
+// The periodic steady state of the same equation for one period of samples
+// t[0..n-1] (t[n-1] - t[0] < period; the motion repeats with that period): the
+// record is closed back to its first sample one period on and integrated once
+// from x = 0; the equation being linear, the initial value that makes the
+// response repeat, x(0) = x_end / (1 - exp(-period/tau1)), is then added as its
+// free decay x(0) exp(-(t - t0)/tau1).
+Eigen::VectorXd periodic_goman_khrabrov(const Eigen::VectorXd& t, const Eigen::VectorXd& alpha,
+                                        const Eigen::VectorXd& alpha_rate, double period,
+                                        const std::function<double(double)>& x0, const GomanKhrabrovTimes& times);
 
 // Small-amplitude harmonic response about a linear part of x0:
 // x_hat / x0_hat(alpha_hat) = (1 - i omega tau2) / (1 + i omega tau1).

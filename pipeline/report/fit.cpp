@@ -1,0 +1,93 @@
+// The Goman-Khrabrov fit: the measured phase-averaged Cn loop (the stretch the
+// fit left out drawn faint), the static curve through the Kirchhoff relation,
+// and the fitted loop; the constants with their intervals, per-cycle spread and
+// sensitivity to x0 and to the attached lag.
+#include <fmt/format.h>
+
+#include <cmath>
+
+#include "pipeline/report/plot.hpp"
+#include "pipeline/report/section.hpp"
+
+namespace stallscope::report {
+
+std::optional<Section> fit_section(const ArchiveView& a, PlotFolder& plots) {
+  const Table* loop = a.table("fit/loop");
+  const Table* summary = a.table("fit/summary");
+  if (!loop || !summary || !has_column(*loop, "cn_measured")) return std::nullopt;
+  const auto alpha = numbers_of(*loop, "alpha_deg"), measured = numbers_of(*loop, "cn_measured"),
+             fitted = numbers_of(*loop, "cn_fitted"), stat = numbers_of(*loop, "cn_static"),
+             in = numbers_of(*loop, "in_window");
+  const std::size_t n = alpha.size();
+  if (n == 0) return std::nullopt;
+  auto closed = [](std::vector<double> v) {
+    v.push_back(v.front());
+    return v;
+  };
+  std::vector<double> inside(n, NAN), outside(n, NAN), static_sorted_a, static_sorted_cn;
+  for (std::size_t i = 0; i < n; ++i) (in[i] != 0 ? inside : outside)[i] = measured[i];
+  // Static curve on the upstroke angles (alpha rising), as one line.
+  for (std::size_t i = 0; i < n; ++i)
+    if (static_sorted_a.empty() || alpha[i] > static_sorted_a.back()) {
+      static_sorted_a.push_back(alpha[i]);
+      static_sorted_cn.push_back(stat[i]);
+    }
+  std::vector<double> ys = measured;
+  ys.insert(ys.end(), fitted.begin(), fitted.end());
+  ys.insert(ys.end(), stat.begin(), stat.end());
+  const Rgb static_colour = category_colour(1), fit_colour = category_colour(2);
+  Canvas canvas(plots.draft("fit_loop.svg"), 720, 380);
+  Axes axes(canvas, 70, 14, 620, 310, nice_range(alpha), nice_range(ys));
+  axes.frame("\u03b1 (deg)", "C_n");
+  axes.clip();
+  axes.line(static_sorted_a, static_sorted_cn, Stroke{static_colour, 1.4, 1.0, {6, 3}});
+  axes.line(closed(alpha), closed(inside), Stroke{ink::kMean, 2.0});
+  axes.markers(alpha, outside, Marker::kCircle, ink::kCycle, 2.6, true);
+  axes.line(closed(alpha), closed(fitted), Stroke{fit_colour, 1.6});
+  axes.unclip();
+  legend(canvas, 70, 366,
+         {LegendEntry("measured (phase average, fitted part)", Stroke{ink::kMean, 2.0}),
+          LegendEntry::with_marker("left out of the fit", Marker::kCircle, ink::kCycle),
+          LegendEntry("static (Kirchhoff, x\u2080)", Stroke{static_colour, 1.4, 1.0, {6, 3}}),
+          LegendEntry("Goman\u2013Khrabrov fit", Stroke{fit_colour, 1.6})},
+         8.0, 640);
+  canvas.finish();
+
+  const auto attr_text = [&](const std::string& k) { return a.table_text("fit/summary", k).value_or(""); };
+  const auto attr_num = [&](const std::string& k) { return a.table_number("fit/summary", k).value_or(NAN); };
+  Section s{"fit", "Goman\u2013Khrabrov fit", "", {}};
+  if (attr_text("status") != "fitted") {
+    s.html = "<p>Not fitted: " + escape_html(attr_text("reason")) + "</p>\n";
+  } else {
+    const double conv = attr_num("convective_time_s");
+    s.html = fmt::format(
+        "<p>\u03c4\u2081 = <span data-key=\"fit/summary/tau1_conv\">{}</span> c/U ({} ms), 95 % interval {}; "
+        "\u03c4\u2082 = <span data-key=\"fit/summary/tau2_conv\">{}</span> c/U ({} ms), 95 % interval {}; "
+        "correlation of the two over the bootstrap {}; rms residual {} in C<sub>n</sub>.{}</p>\n",
+        format_number(attr_num("tau1_conv"), 4), format_number(attr_num("tau1_conv") * conv * 1e3, 3),
+        escape_html(attr_text("tau1_ci95_conv")), format_number(attr_num("tau2_conv"), 4),
+        format_number(attr_num("tau2_conv") * conv * 1e3, 3), escape_html(attr_text("tau2_ci95_conv")),
+        format_number(attr_num("tau_correlation"), 3), format_number(attr_num("rms_residual"), 3),
+        attr_text("reason").empty() ? "" : " Flag: " + escape_html(attr_text("reason")) + ".");
+  }
+  s.html += "<p>Fit window: " + escape_html(attr_text("fit_window")) + ". Static curve: " +
+            escape_html(attr_text("static_curve")) + " (" + escape_html(attr_text("static_polar")) + ").</p>\n";
+  // Per-cycle and sensitivity rows.
+  const auto estimate = texts_of(*summary, "estimate"), kind = texts_of(*summary, "kind"),
+             status = texts_of(*summary, "status");
+  const auto t1 = numbers_of(*summary, "tau1_conv"), t2 = numbers_of(*summary, "tau2_conv"),
+             rms = numbers_of(*summary, "rms_residual");
+  std::string rows;
+  for (std::size_t i = 0; i < estimate.size(); ++i)
+    rows += fmt::format("<tr><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td></tr>\n", escape_html(estimate[i]),
+                        escape_html(kind[i]), status[i] == "fitted" ? format_number(t1[i], 4) : "\u2013",
+                        status[i] == "fitted" ? format_number(t2[i], 4) : "\u2013", format_number(rms[i], 3));
+  s.html += figure_html("fit_loop.svg", "Measured, static and fitted Cn loops",
+                        "Phase-averaged C<sub>n</sub> loop against \u03b1 with the static curve and the fitted "
+                        "Goman\u2013Khrabrov loop (attached part with Theodorsen's lag).");
+  s.html += "<table>\n<tr><th>estimate</th><th>kind</th><th>\u03c4\u2081 (c/U)</th><th>\u03c4\u2082 (c/U)</th>"
+            "<th>rms residual</th></tr>\n" + rows + "</table>\n";
+  return s;
+}
+
+}  // namespace stallscope::report

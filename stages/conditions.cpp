@@ -6,6 +6,7 @@
 #include "calib/air/air.hpp"
 #include "pipeline/errors.hpp"
 #include "stages/cp.hpp"
+#include "stages/numerics/statistics.hpp"
 
 namespace stallscope {
 
@@ -41,7 +42,7 @@ std::vector<std::string> ConditionsStage::optional_inputs() const {
 
 std::vector<std::string> ConditionsStage::outputs() const {
   return {"run/T_K", "run/p_static_pa", "run/rho_kg_m3", "run/mu_pa_s", "run/U_inf_m_s",
-          "run/q_pa", "run/Re",          "run/Mach"};
+          "run/q_pa", "run/Re",          "run/Mach",  "run/conditions_source"};
 }
 
 void ConditionsStage::run(RunContext& context) {
@@ -52,7 +53,8 @@ void ConditionsStage::run(RunContext& context) {
     throw InputError(where_speed_, "no measured dynamic pressure (signals/q_pa from [calibrate] with a q channel): "
                                    "give velocity_m_s or dynamic_pressure_pa");
 
-  // The wind-on span of the measured q; the whole record without one.
+  // The wind-on span of the measured q (the whole record without one). Medians
+  // over it: the wind ramps at its ends, a periodic blockage and noise move them little.
   Eigen::Index first = 0, count = -1;
   if (measured_q) {
     const auto span = wind_on_span(s.get<Series>("signals/q_pa").values, options_.wind_on_fraction);
@@ -62,7 +64,6 @@ void ConditionsStage::run(RunContext& context) {
     first = span->first;
     count = span->second - span->first + 1;
   }
-  std::string span_text = "whole record";
   auto mean_of = [&](const char* key, double fallback, std::string& source) {
     if (!options_.use_signals || !s.contains(key)) {
       source = "config";
@@ -70,15 +71,13 @@ void ConditionsStage::run(RunContext& context) {
     }
     const Eigen::VectorXd& v = s.get<Series>(key).values;
     const Eigen::Index n = count < 0 ? v.size() : count;
-    double sum = 0;
-    Eigen::Index finite = 0;
+    std::vector<double> finite;
     for (Eigen::Index i = first; i < first + n; ++i)
-      if (std::isfinite(v[i])) sum += v[i], ++finite;
-    if (finite == 0) throw InputError(key, "no finite sample in the wind-on span");
+      if (std::isfinite(v[i])) finite.push_back(v[i]);
+    if (finite.empty()) throw InputError(key, "no finite sample in the wind-on span");
     const Eigen::VectorXd& t = s.get<Series>("signals/time_s").values;
-    span_text = fmt::format("{:g} to {:g} s", t[first], t[first + n - 1]);
-    source = fmt::format("{}, mean over the wind-on span {}", key, span_text);
-    return sum / static_cast<double>(finite);
+    source = fmt::format("{}, median over the wind-on span {:g} to {:g} s", key, t[first], t[first + n - 1]);
+    return numerics::percentile(finite, 0.5);
   };
   std::string t_source, p_source, q_source;
   const double t = mean_of("signals/T_K", options_.temperature_c + air::kCelsiusToKelvin, t_source);
@@ -98,12 +97,14 @@ void ConditionsStage::run(RunContext& context) {
                                         "{:.4g} Pa; the measured value is used (use_signals = false keeps the config's)",
                                         q, 100 * (q / q_config - 1), q_config));
   const double chord = s.get<Scalar>("run/chord_m").value;
-  s.put("run/T_K", Scalar{t, "K"}, {{"source", t_source}});
-  s.put("run/p_static_pa", Scalar{p, "Pa"}, {{"source", p_source}});
-  s.put("run/rho_kg_m3", Scalar{rho, "kg/m^3"}, {{"source", std::string("ideal gas, p / (R T)")}});
-  s.put("run/mu_pa_s", Scalar{mu, "Pa s"}, {{"source", std::string("Sutherland's law at T")}});
-  s.put("run/U_inf_m_s", Scalar{u, "m/s"}, {{"source", std::string("sqrt(2 q / rho)")}});
-  s.put("run/q_pa", Scalar{q, "Pa"}, {{"source", q_source}});
+  s.put("run/T_K", Scalar{t, "K"});
+  s.put("run/p_static_pa", Scalar{p, "Pa"});
+  s.put("run/rho_kg_m3", Scalar{rho, "kg/m^3"});
+  s.put("run/mu_pa_s", Scalar{mu, "Pa s"});
+  s.put("run/U_inf_m_s", Scalar{u, "m/s"});
+  s.put("run/q_pa", Scalar{q, "Pa"});
+  s.put("run/conditions_source", Text{"T: " + t_source + "; p: " + p_source + "; q: " + q_source +
+                                      "; rho = p / (R T), mu by Sutherland's law, U = sqrt(2 q / rho)"});
   s.put("run/Re", Scalar{rho * u * chord / mu, "1"});
   s.put("run/Mach", Scalar{u / air::speed_of_sound(t), "1"});
 }

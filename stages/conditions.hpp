@@ -1,6 +1,6 @@
 #pragma once
 // [conditions]: free-stream state of the run. Where the DAQ measures them
-// (signals/q_pa, signals/p_static_pa, signals/T_K from [calibrate]) their means
+// (signals/q_pa, signals/p_static_pa, signals/T_K from [calibrate]) their medians
 // over the wind-on span are used: rho from p and T (ideal gas), mu from T
 // (Sutherland), U from q and rho, then Re and Mach. The config's values stand
 // in for any quantity the DAQ does not measure; each result records its source.

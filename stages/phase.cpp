@@ -63,7 +63,7 @@ Members aligned_members(const Eigen::VectorXd& t, const std::vector<std::pair<st
 struct Group {
   std::string name;    // store key below phase/ ("alpha_deg", "cn", "cp")
   std::string source;  // for messages
-  Eigen::MatrixXd values;
+  Eigen::Map<const Eigen::MatrixXd> values;  // the store's data, not a copy
   std::string units;
   std::vector<std::string> columns;  // for Cp: tap names
   const Eigen::VectorXd* time = nullptr;
@@ -169,7 +169,8 @@ void PhaseStage::run(RunContext& context) {
   // The quantities, each on its own time base.
   std::vector<Group> groups;
   {
-    Group a{"alpha_deg", "signals/alpha_deg", s.get<Series>("signals/alpha_deg").values, "deg", {},
+    auto column = [](const Eigen::VectorXd& v) { return Eigen::Map<const Eigen::MatrixXd>(v.data(), v.size(), 1); };
+    Group a{"alpha_deg", "signals/alpha_deg", column(s.get<Series>("signals/alpha_deg").values), "deg", {},
             &s.get<Series>("signals/time_s").values, false};
     groups.push_back(std::move(a));
     const Eigen::VectorXd& lt = s.get<Series>("loads/time_s").values;
@@ -177,12 +178,13 @@ void PhaseStage::run(RunContext& context) {
       const Series& v = s.get<Series>("loads/" + l);
       if (v.values.size() != lt.size())
         throw std::logic_error("loads/" + l + " and loads/time_s differ in length");
-      groups.push_back(Group{l, "loads/" + l, v.values, "1", {}, &lt, false});
+      groups.push_back(Group{l, "loads/" + l, column(v.values), "1", {}, &lt, false});
     }
     if (options_.cp && s.contains("pressure/cp") && s.contains("pressure/time_s")) {
       const Matrix& cp = s.get<Matrix>("pressure/cp");
-      groups.push_back(Group{"cp", "pressure/cp", cp.values, "1", cp.columns, &s.get<Series>("pressure/time_s").values,
-                             true});
+      groups.push_back(Group{"cp", "pressure/cp",
+                             Eigen::Map<const Eigen::MatrixXd>(cp.values.data(), cp.values.rows(), cp.values.cols()),
+                             "1", cp.columns, &s.get<Series>("pressure/time_s").values, true});
     }
   }
 

@@ -11,9 +11,12 @@ namespace stallscope::numerics {
 
 namespace {
 
-// Members grouped by bin (a counting sort): rows of bin b are order[offset[b] .. offset[b+1]).
+// Members grouped by bin (a counting sort): member m goes to slot[m], and the
+// slots of bin b are offset[b] .. offset[b+1]. Members come in time order, so
+// reading a column member by member and writing each value to its slot reads
+// memory in order (one gather per member in bin order would miss the cache).
 struct Groups {
-  std::vector<Eigen::Index> order;
+  std::vector<std::size_t> slot;
   std::vector<std::size_t> offset;
 };
 
@@ -27,9 +30,9 @@ Groups group(std::span<const Eigen::Index> sample, std::span<const int> bin, int
     ++g.offset[static_cast<std::size_t>(bin[m]) + 1];
   }
   for (int b = 0; b < bins; ++b) g.offset[b + 1] += g.offset[b];
-  g.order.resize(bin.size());
+  g.slot.resize(bin.size());
   std::vector<std::size_t> next(g.offset.begin(), g.offset.end() - 1);
-  for (std::size_t m = 0; m < bin.size(); ++m) g.order[next[static_cast<std::size_t>(bin[m])]++] = sample[m];
+  for (std::size_t m = 0; m < bin.size(); ++m) g.slot[m] = next[static_cast<std::size_t>(bin[m])]++;
   return g;
 }
 
@@ -38,6 +41,7 @@ Groups group(std::span<const Eigen::Index> sample, std::span<const int> bin, int
 BinnedStatistics bin_statistics(const Eigen::Ref<const Eigen::MatrixXd>& y, std::span<const Eigen::Index> sample,
                                 std::span<const int> bin, int bins, int threads) {
   const Groups g = group(sample, bin, bins, y.rows());
+  const std::size_t members = sample.size();
   const Eigen::Index cols = y.cols();
   constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
   BinnedStatistics r;
@@ -45,13 +49,12 @@ BinnedStatistics bin_statistics(const Eigen::Ref<const Eigen::MatrixXd>& y, std:
   r.n = Eigen::MatrixXi::Zero(bins, cols);
 #pragma omp parallel for num_threads(threads) schedule(dynamic)
   for (Eigen::Index j = 0; j < cols; ++j) {
-    std::vector<double> v;
+    std::vector<double> by_bin(members), v;
+    for (std::size_t m = 0; m < members; ++m) by_bin[g.slot[m]] = y(sample[m], j);
     for (int b = 0; b < bins; ++b) {
       v.clear();
-      for (std::size_t m = g.offset[b]; m < g.offset[b + 1]; ++m) {
-        const double x = y(g.order[m], j);
-        if (std::isfinite(x)) v.push_back(x);
-      }
+      for (std::size_t m = g.offset[b]; m < g.offset[b + 1]; ++m)
+        if (std::isfinite(by_bin[m])) v.push_back(by_bin[m]);
       r.n(b, j) = static_cast<int>(v.size());
       if (v.empty()) continue;
       r.mean(b, j) = mean(v);

@@ -1,5 +1,6 @@
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <array>
 #include <cmath>
 #include <fstream>
@@ -62,6 +63,29 @@ TEST(AmplitudeSpectrum, AgreesWithNumpysRealFft) {
     EXPECT_EQ(peak.bin, std::stol(r.out)) << "n = " << n;
     // The refined peak lies within half a bin of the true 3.7 Hz (bin width 0.2 Hz).
     EXPECT_NEAR(peak.frequency_hz, 3.7, 0.5 * rate / static_cast<double>(n));
+  }
+}
+
+// The selection is our own quickselect: the order statistics of a full sort,
+// exactly, on random data, on data with many repeated values and on sorted data.
+TEST(Percentile, SelectsTheSameOrderStatisticsAsAFullSort) {
+  std::mt19937 gen(3);
+  std::normal_distribution<double> normal;
+  std::uniform_int_distribution<int> small(0, 4);
+  for (int trial = 0; trial < 300; ++trial) {
+    const std::size_t n = 1 + static_cast<std::size_t>(trial) * 7 % 700;
+    std::vector<double> v(n);
+    for (auto& x : v) x = trial % 3 == 0 ? small(gen) : normal(gen);
+    if (trial % 10 == 5) std::sort(v.begin(), v.end());
+    std::vector<double> sorted = v;
+    std::sort(sorted.begin(), sorted.end());
+    for (double p : {0.0, 0.05, 0.5, 0.95, 1.0}) {
+      const double h = p * static_cast<double>(n - 1);
+      const auto lo = static_cast<std::size_t>(std::floor(h));
+      const double expected = lo + 1 < n ? sorted[lo] + (h - lo) * (sorted[lo + 1] - sorted[lo]) : sorted[lo];
+      std::vector<double> w = v;
+      EXPECT_DOUBLE_EQ(percentile(w, p), expected) << "n " << n << " p " << p;
+    }
   }
 }
 

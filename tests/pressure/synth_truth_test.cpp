@@ -42,11 +42,11 @@ fs::path synth(testing::ScratchDir& dir, const std::string& scenario) {
   return run;
 }
 
-fs::path reduce(const fs::path& run, const std::string& name) {
+fs::path reduce(const fs::path& run, const std::string& name, const std::string& more = "") {
   const auto config = run / (name + ".toml");
   {
     std::ofstream out(config);
-    out << pressure_config(run);
+    out << pressure_config(run) << more;
   }
   const auto out = run / name;
   const auto r = run_stallscope("reduce " + shell_quote(config.string()) + " -o " + shell_quote(out.string()) +
@@ -161,6 +161,48 @@ TEST(SynthTruth, TheTransducerTemperatureCorrectionRemovesTheThermalDrift) {
   const double without = cp_error(uncorrected, run / "truth.h5");
   EXPECT_LT(with, 0.002);  // as on the clean run without any thermal drift
   EXPECT_GT(without, 5 * with);
+}
+
+// Per cycle, the time of one event the events stage found (NaN where it found none).
+std::vector<double> event_times(const fs::path& archive, const std::string& event) {
+  h5::File a = h5::File::open_read(archive);
+  const auto names = h5::read_texts(a.id(), "events/per_cycle/event", "archive");
+  const auto status = h5::read_texts(a.id(), "events/per_cycle/status", "archive");
+  const auto t = h5::read_numbers(a.id(), "events/per_cycle/t_s", "archive");
+  std::vector<double> out;
+  for (std::size_t i = 0; i < names.size(); ++i)
+    if (names[i] == event) out.push_back(status[i] == "ok" ? t[i] : NAN);
+  return out;
+}
+
+// What a mis-measured line costs: the same clean run through 1.0 m tubes as the
+// tap table says, and through tubes 10 % longer (synth's tube_length_error),
+// reduced with the table's lengths through the events stage. The correction
+// leaves the extra lag of the longer tubes in, so stall onset comes late.
+// Measured (8 cycles, U = 25 m/s, c = 0.15 m, k = 0.1): stall onset +0.52 ms
+// (0.51 to 0.56 ms over the cycles, 0.087 c/U), leading-edge suction collapse
+// +0.62 ms, lift peak +0.67 ms; with 0.5 m tubes stall onset +0.19 ms (0.18 to
+// 0.19 ms), suction collapse +0.17 ms, lift peak +0.15 ms.
+TEST(SynthTruth, TenPercentLongerTubesDelayTheStallOnsetTheEventsStageFinds) {
+  const std::string events = "[motion]\n[cycles]\n[events]\nstatic_stall_angle_deg = 14.0\n";
+  std::vector<double> onset[2];
+  for (int longer = 0; longer < 2; ++longer) {
+    testing::ScratchDir dir;
+    const auto run = synth(dir, "[scenario]\npreset = \"clean\"\nname = \"onset\"\nseed = 1\n[motion]\ncycles = 6\n"
+                                "[taps]\ntube_length_m = 1.0\n[lines]\ntube_length_error = " +
+                                    std::string(longer ? "0.1" : "0.0") + "\n");
+    const auto archive = reduce(run, "reduced", events);
+    ASSERT_FALSE(archive.empty());
+    onset[longer] = event_times(archive, "stall_onset");
+  }
+  ASSERT_EQ(onset[0].size(), onset[1].size());
+  ASSERT_GE(onset[0].size(), 3u);
+  for (std::size_t c = 0; c < onset[0].size(); ++c) {
+    ASSERT_TRUE(std::isfinite(onset[0][c]) && std::isfinite(onset[1][c])) << "cycle " << c;
+    const double late_ms = 1e3 * (onset[1][c] - onset[0][c]);
+    EXPECT_GT(late_ms, 0.3) << "cycle " << c;
+    EXPECT_LT(late_ms, 0.8) << "cycle " << c;
+  }
 }
 
 }  // namespace

@@ -8,6 +8,7 @@
 #include <cmath>
 #include <numbers>
 
+#include "bench/bench_support.hpp"
 #include "pipeline/config.hpp"
 #include "pipeline/run_context.hpp"
 #include "stages/cycles.hpp"
@@ -17,6 +18,7 @@
 namespace {
 
 using namespace stallscope;
+using stallscope::bench::run_stage;
 
 constexpr int kSamples = 120000, kTaps = 48;
 constexpr double kRate = 2000.0, kPitchHz = 1.5;
@@ -50,14 +52,6 @@ void fill(RunStore& s) {
   s.put("run/rho_kg_m3", Scalar{1.2, "kg/m^3"});
   s.put("run/T_K", Scalar{293.15, "K"});
   s.put("run/p_static_pa", Scalar{101325.0, "Pa"});
-}
-
-template <typename StageT>
-void run_stage(const ConfigFile& config, RunContext& context) {
-  StageT stage;
-  ConfigSection section(config, std::string(StageT::kName));
-  stage.configure(section);
-  stage.run(context);
 }
 
 void BM_PhaseAverage(benchmark::State& state) {

@@ -245,16 +245,21 @@ TEST(MotionStage, FollowsADriftingPitchFrequencyCycleByCycle) {
   EXPECT_GT(worst_fitted, 5 * worst_start);  // measured 17 ms, 12 deg of phase
 }
 
-TEST(MotionStage, SaysWhyAForcedRampDoesNotFitAndNothingIsWritten) {
-  Harness h;
+// Random angles, 4 s at 500 Hz: no motion of any kind.
+void put_random_angles(Harness& h, unsigned seed) {
   testing::put_conditions(h.store, 0.3, 20);
   const Eigen::VectorXd t = testing::time_base(0, 500, 4.0);
-  std::mt19937 gen(11);
+  std::mt19937 gen(seed);
   std::uniform_real_distribution<double> jump(0, 15);
   Eigen::VectorXd a(t.size());
-  for (Eigen::Index i = 0; i < t.size(); ++i) a[i] = jump(gen);  // no ramp anywhere
+  for (Eigen::Index i = 0; i < t.size(); ++i) a[i] = jump(gen);
   h.store.put("signals/time_s", Series{t, "s"});
   h.store.put("signals/alpha_deg", Series{a, "deg"});
+}
+
+TEST(MotionStage, SaysWhyAForcedRampDoesNotFitAndNothingIsWritten) {
+  Harness h;
+  put_random_angles(h, 11);
   MotionStage stage;
   try {
     h.run(stage, "type = \"ramp\"\n");
@@ -271,14 +276,7 @@ TEST(MotionStage, SaysWhyAForcedRampDoesNotFitAndNothingIsWritten) {
 
 TEST(MotionStage, ExplainsAMotionThatIsNoneOfTheKnownKinds) {
   Harness h;
-  testing::put_conditions(h.store, 0.3, 20);
-  const Eigen::VectorXd t = testing::time_base(0, 500, 4.0);
-  std::mt19937 gen(5);
-  std::uniform_real_distribution<double> jump(0, 15);
-  Eigen::VectorXd a(t.size());
-  for (Eigen::Index i = 0; i < t.size(); ++i) a[i] = jump(gen);  // random angles: no motion at all
-  h.store.put("signals/time_s", Series{t, "s"});
-  h.store.put("signals/alpha_deg", Series{a, "deg"});
+  put_random_angles(h, 5);
   MotionStage stage;
   try {
     h.run(stage);

@@ -260,7 +260,7 @@ void write_sine(RunStore& s, const Record& r, const MotionWindow& w, const numer
   };
   s.put("motion/fit", std::move(table), std::move(attrs));
   if (!m.node_t_s.empty()) {
-    // Each cycle's own frequency, for the record (from node to node two crossings on).
+    // The measured phase, for the record and for the stages that place their samples in it.
     Table nodes;
     nodes.add({"t_s", "s", m.node_t_s}).add({"theta_rad", "rad", m.node_theta_rad});
     s.put("motion/phase_nodes", std::move(nodes),

@@ -52,12 +52,14 @@ void select_kth(double* a, std::size_t n, std::size_t k) {
     const std::size_t less = partition_front(a, lo, hi, [pivot](double v) { return v < pivot; });
     if (k < less) {
       hi = less;
-      continue;
+    } else if (less > lo) {
+      lo = less;
+    } else {
+      // Nothing below the pivot: split off its copies (at least one, it is an element) so the range shrinks.
+      const std::size_t equal = partition_front(a, lo, hi, [pivot](double v) { return v <= pivot; });
+      if (k < equal) return;
+      lo = equal;
     }
-    // [less, hi) >= pivot; the pivot's copies come next (at least one: it is an element).
-    const std::size_t equal = partition_front(a, less, hi, [pivot](double v) { return v <= pivot; });
-    if (k < equal) return;
-    lo = equal;
   }
   for (std::size_t i = lo + 1; i < hi; ++i)  // insertion sort of the small rest
     for (std::size_t j = i; j > lo && a[j] < a[j - 1]; --j) std::swap(a[j], a[j - 1]);

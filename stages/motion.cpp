@@ -581,16 +581,11 @@ double MotionFit::time_at_theta(double th) const {
   return node_t_s[k - 1] + u * (node_t_s[k] - node_t_s[k - 1]);
 }
 
-double MotionFit::phase_deg(double t) const {
+MotionFit::CyclePhase MotionFit::at(double t) const {
   const double turns = (theta(t) - theta(cycle_origin_s)) / (2 * kPi);
-  double p = 360.0 * (turns - std::floor(turns));
-  return p >= 360.0 ? 0.0 : p;
-}
-
-std::int64_t MotionFit::cycle(double t) const {
-  const auto c =
-      static_cast<std::int64_t>(std::floor((theta(t) - theta(cycle_origin_s)) / (2 * kPi) + 1e-9));
-  return c >= 0 && c < cycles ? c : -1;
+  const auto c = static_cast<std::int64_t>(std::floor(turns + 1e-9));
+  const double p = 360.0 * (turns - std::floor(turns));
+  return {c >= 0 && c < cycles ? c : -1, p >= 360.0 ? 0.0 : p};
 }
 
 double MotionFit::cycle_start_s(std::int64_t c) const {

@@ -37,8 +37,13 @@ struct MotionFit {
   double theta_rate(double t) const;        // its rate, rad/s
   double time_at_theta(double theta) const;  // the inverse of theta(t)
 
-  double phase_deg(double t) const;           // [0, 360), 0 at the minimum angle
-  std::int64_t cycle(double t) const;          // -1 outside the complete cycles
+  struct CyclePhase {
+    std::int64_t cycle;  // -1 outside the complete cycles
+    double phase_deg;    // [0, 360), 0 at the minimum angle
+  };
+  CyclePhase at(double t) const;               // both at once (one phase evaluation)
+  double phase_deg(double t) const { return at(t).phase_deg; }
+  std::int64_t cycle(double t) const { return at(t).cycle; }
   double cycle_start_s(std::int64_t c) const;  // where theta has advanced c turns from cycle_origin_s
   double alpha_deg(double t) const;            // fundamental + harmonics
   double alpha_rate_deg_s(double t) const;

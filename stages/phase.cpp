@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <map>
 
 #include "pipeline/errors.hpp"
 #include "stages/motion.hpp"
@@ -32,9 +33,9 @@ struct Members {
 Members phase_members(const Eigen::VectorXd& t, const MotionFit& motion, const std::vector<bool>& use, int bins) {
   Members m;
   for (Eigen::Index i = 0; i < t.size(); ++i) {
-    const std::int64_t c = motion.cycle(t[i]);
+    const auto [c, phase] = motion.at(t[i]);
     if (c < 0 || !use[static_cast<std::size_t>(c)]) continue;
-    const int b = std::min(bins - 1, static_cast<int>(motion.phase_deg(t[i]) * bins / 360.0));
+    const int b = std::min(bins - 1, static_cast<int>(phase * bins / 360.0));
     m.sample.push_back(i);
     m.bin.push_back(b);
     m.cycle.push_back(c);
@@ -194,8 +195,11 @@ void PhaseStage::run(RunContext& context) {
                          {"cycles_averaged", static_cast<std::int64_t>(used)},
                          {"bin_width_deg", 360.0 / bins}};
   std::vector<numerics::BinnedStatistics> stats;
+  std::map<const Eigen::VectorXd*, Members> members;  // once per time base: the loads and Cp share one
   for (const Group& g : groups) {
-    const Members m = phase_members(*g.time, motion, use, bins);
+    auto found = members.find(g.time);
+    if (found == members.end()) found = members.emplace(g.time, phase_members(*g.time, motion, use, bins)).first;
+    const Members& m = found->second;
     stats.push_back(numerics::bin_statistics(g.values, m.sample, m.bin, bins, context.threads()));
     check_filled(stats.back(), g, bins_where_, bins, "phase", used);
     write_stats(s, "phase/", g, stats.back(), attrs);

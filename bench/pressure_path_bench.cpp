@@ -13,6 +13,7 @@
 #include <fstream>
 #include <numbers>
 
+#include "bench/bench_support.hpp"
 #include "pipeline/config.hpp"
 #include "pipeline/hdf5.hpp"
 #include "pipeline/run_context.hpp"
@@ -27,6 +28,7 @@ namespace {
 
 namespace fs = std::filesystem;
 using namespace stallscope;
+using stallscope::bench::run_stage;
 
 constexpr int kSamples = 120000, kTaps = 48;
 constexpr double kRate = 2000.0;
@@ -84,14 +86,6 @@ const char* kConfig =
     "[calibrate]\ntap_table = \"pressure_taps.csv\"\nzero_before_s = [0.0, 1.8]\nzero_after_s = [58.2, 60.0]\n"
     "pitch_frequency_hz = 1.5\n[calibrate.calibrations]\ntaps = \"pressure_cal.toml\"\nencoder = \"pressure_encoder.toml\"\n"
     "[tubing]\n[cp]\n[loads]\n";
-
-template <typename StageT>
-void run_stage(const ConfigFile& config, RunContext& context) {
-  StageT stage;
-  ConfigSection section(config, std::string(StageT::kName));
-  stage.configure(section);
-  stage.run(context);
-}
 
 void BM_PressurePath(benchmark::State& state) {
   make_inputs();

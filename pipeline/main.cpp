@@ -7,8 +7,7 @@
 #include <cstdio>
 #include <iostream>
 
-#include "calib/piv/piv_target_command.hpp"
-#include "calib/transducers/transducer_command.hpp"
+#include "calib/calib_command.hpp"
 #include "pipeline/errors.hpp"
 #include "pipeline/campaign/campaign.hpp"
 #include "pipeline/inspect.hpp"
@@ -30,8 +29,6 @@ std::string joined_command_line(int argc, char** argv) {
 }
 
 int run(int argc, char** argv) {
-  if (auto code = calib::run_transducer_command(argc, argv)) return *code;
-  if (auto code = calib::run_calib_command(argc, argv)) return *code;
   if (auto code = fit::run_fit_command(argc, argv)) return *code;
   CLI::App app{"stallscope: reduce wind-tunnel data of pitching airfoils in dynamic stall"};
   app.set_version_flag("--version", fmt::format("stallscope {} (commit {})", kToolVersion, kGitCommit));
@@ -72,6 +69,8 @@ int run(int argc, char** argv) {
   report_cmd->add_option("archive", archive, "archive (.h5)")->required();
   report_cmd->add_option("-o,--output", report_folder, "folder for the page and plots (default: report/ beside the archive)");
 
+  const calib::CalibCommand calib_cmd = calib::add_calib_command(app);
+
   campaign::CampaignRequest campaign_request;
   auto* campaign_cmd = app.add_subcommand("campaign", "reduce the runs a campaign manifest lists, in parallel");
   campaign_cmd->add_option("manifest", campaign_request.manifest, "campaign manifest (TOML)")->required();
@@ -96,6 +95,7 @@ int run(int argc, char** argv) {
     return 2;
   }
 
+  if (*calib_cmd.command) return calib_cmd.run();
   if (*campaign_cmd) {
     campaign_request.quiet = quiet;
     campaign_request.command_line = joined_command_line(argc, argv);

@@ -5,6 +5,7 @@
 #include <fmt/format.h>
 #include <numeric>
 #include <stdexcept>
+#include <tuple>
 
 #include "calib/lines/tap_table.hpp"
 #include "pipeline/errors.hpp"
@@ -51,6 +52,21 @@ void interpolate_masked_taps(Eigen::MatrixXd& cp, const std::vector<ContourPoint
   }
 }
 
+std::optional<std::pair<Eigen::Index, Eigen::Index>> wind_on_span(const Eigen::VectorXd& q, double fraction) {
+  const Eigen::Index n = q.size();
+  const double q_max = n ? q.maxCoeff() : 0.0;
+  if (!(q_max > 0)) return std::nullopt;
+  std::vector<double> high;
+  for (Eigen::Index i = 0; i < n; ++i)
+    if (q[i] >= 0.5 * q_max) high.push_back(q[i]);
+  std::nth_element(high.begin(), high.begin() + static_cast<std::ptrdiff_t>(high.size() / 2), high.end());
+  const double q_run = high[high.size() / 2];
+  Eigen::Index first = 0, last = n - 1;
+  while (q[first] < fraction * q_run) ++first;
+  while (q[last] < fraction * q_run) --last;
+  return std::pair{first, last};
+}
+
 void CpStage::configure(ConfigSection& s) {
   where_window_ = s.where("window_s");
   options_.window_s = s.numbers("window_s", {});
@@ -89,28 +105,23 @@ void CpStage::run(RunContext& context) {
     while (first < n && t[first] < options_.window_s[0]) ++first;
     while (last >= 0 && t[last] > options_.window_s[1]) --last;
     if (last - first < 1) throw InputError(where_window_, "the window holds fewer than 2 DAQ samples");
-    for (Eigen::Index i = first; i <= last; ++i)
-      if (!(q[i] > 0))
-        throw InputError(where_window_, fmt::format("the reference q is {:.4g} Pa at t = {:g} s inside the window; "
-                                                    "Cp needs q > 0 (check the q calibration and its wind-off zero)",
-                                                    q[i], t[i]));
   } else {
-    const double q_max = q.maxCoeff();
-    if (!(q_max > 0))
+    const auto span = wind_on_span(q, options_.wind_on_fraction);
+    if (!span)
       throw InputError(where_window_, fmt::format("the reference q never rises above 0 Pa (max {:.4g} Pa): no wind-on "
                                                   "data (check the q channel, its calibration and wind-off zero)",
-                                                  q_max));
-    std::vector<double> high;
-    for (Eigen::Index i = 0; i < n; ++i)
-      if (q[i] >= 0.5 * q_max) high.push_back(q[i]);
-    std::nth_element(high.begin(), high.begin() + static_cast<std::ptrdiff_t>(high.size() / 2), high.end());
-    const double q_run = high[high.size() / 2];
-    first = 0;
-    while (q[first] < options_.wind_on_fraction * q_run) ++first;
-    last = n - 1;
-    while (q[last] < options_.wind_on_fraction * q_run) --last;
+                                                  q.size() ? q.maxCoeff() : 0.0));
+    std::tie(first, last) = *span;
     if (last - first < 1) throw InputError(where_window_, "the wind-on span holds fewer than 2 samples");
   }
+  // A dip to q <= 0 inside the span (a Pitot drop-out) would divide Cp by zero.
+  const std::string span = options_.window_s.empty() ? "the wind-on span found automatically" : "the window";
+  for (Eigen::Index i = first; i <= last; ++i)
+    if (!(q[i] > 0))
+      throw InputError(where_window_, fmt::format("the reference q is {:.4g} Pa at t = {:g} s inside {} "
+                                                  "({:g} to {:g} s); Cp needs q > 0 (check the q channel, its "
+                                                  "calibration and wind-off zero, or set window_s)",
+                                                  q[i], t[i], span, t[first], t[last]));
   const Eigen::Index m = last - first + 1;
 
   Eigen::MatrixXd cp = p.values.middleRows(first, m);
@@ -119,6 +130,7 @@ void CpStage::run(RunContext& context) {
 
   // Masking: table status, zero flag, flat and clipped signals.
   const std::size_t nt = taps.taps.size();
+  if (nt == 0) throw InputError(taps.source, "the tap table lists no taps; Cp needs at least two");
   std::vector<double> spread(nt);
   for (std::size_t i = 0; i < nt; ++i) {
     const auto col = p_raw.values.col(static_cast<Eigen::Index>(i)).segment(first, m);

@@ -12,6 +12,8 @@
 // Writes pressure/time_s (attribute first_sample: index into signals/time_s),
 // pressure/cp, pressure/taps, pressure/q_pa.
 #include <Eigen/Core>
+#include <optional>
+#include <utility>
 
 #include "pipeline/stage.hpp"
 
@@ -48,6 +50,11 @@ class CpStage final : public Stage {
   Options options_;
   std::string where_window_, where_le_;
 };
+
+// The wind-on span of a reference q, samples [first, last]: from the first to
+// the last sample at or above `fraction` x the running q (the median of the
+// samples above half the maximum). nullopt when q never rises above 0.
+std::optional<std::pair<Eigen::Index, Eigen::Index>> wind_on_span(const Eigen::VectorXd& q, double fraction);
 
 // Positions round the closed contour (taps ordered by contour_order).
 struct ContourPoint {

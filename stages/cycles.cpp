@@ -92,7 +92,7 @@ void CyclesStage::run(RunContext& context) {
 
   const auto n = static_cast<std::size_t>(motion.cycles);
   std::vector<std::int64_t> index(n), dropouts(n), dead(n), k_flag(n), valid(n);
-  std::vector<double> t0(n), t1(n), amin(n), amax(n), misfit(n), qc(n, NAN), u(n), rho(n), temp(n), re(n), k(n);
+  std::vector<double> t0(n), t1(n), amin(n), amax(n), misfit(n), qc(n, NAN), u(n), rho(n), temp(n), re(n), k(n), freq(n);
   std::vector<std::string> reason(n);
   for (std::size_t c = 0; c < n; ++c) {
     index[c] = static_cast<std::int64_t>(c);
@@ -128,7 +128,8 @@ void CyclesStage::run(RunContext& context) {
       u[c] = s.get<Scalar>("run/U_inf_m_s").value;
     }
     re[c] = rho[c] * u[c] * chord / air::viscosity(temp[c]);
-    k[c] = std::numbers::pi * motion.freq_hz * chord / u[c];
+    freq[c] = 1.0 / (t1[c] - t0[c]);  // the cycle's own frequency (per-cycle phase follows a drift)
+    k[c] = std::numbers::pi * freq[c] * chord / u[c];
 
     if (cp) {
       const auto [cf, cl] = span(*cp_t, t0[c], t1[c]);
@@ -180,6 +181,7 @@ void CyclesStage::run(RunContext& context) {
       .add({"rho_kg_m3", "kg/m^3", rho})
       .add({"T_K", "K", temp})
       .add({"Re", "1", re})
+      .add({"freq_hz", "Hz", freq})
       .add({"k", "1", k})
       .add({"k_drift", "1", k_flag})
       .add({"dead_taps", "1", dead});

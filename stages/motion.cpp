@@ -83,6 +83,98 @@ MotionWindow motion_window(const Record& r, const MotionStage::Options& o) {
   return w;
 }
 
+// The fundamental's mean crossings (theta = j pi), each placed by the time
+// shift that best lays the fitted waveform onto the measured angle over an
+// eighth of a period either side of it (Gauss-Newton on the one shift). Each
+// search starts from the previous crossing's shift, so a drifting frequency is
+// followed crossing by crossing. Crossings whose window leaves the motion, or
+// whose fit does not settle, are left out.
+void measure_phase_nodes(const Record& r, const MotionWindow& w, MotionFit& m) {
+  const MotionFit fitted = m;  // the waveform on the fitted phase, shifted below
+  const double f = m.freq_hz, omega = 2 * kPi * f, period = 1 / f;
+  const double t_lo = r.t[w.first], t_hi = r.t[w.last - 1];
+  const double* begin = r.t.data();
+  const double* end = begin + w.last;
+  const auto j0 = static_cast<std::int64_t>(std::ceil(fitted.theta(t_lo) / kPi));
+  const auto j1 = static_cast<std::int64_t>(std::floor(fitted.theta(t_hi) / kPi));
+  double shift = 0;
+  for (std::int64_t j = j0; j <= j1; ++j) {
+    const double nominal = (static_cast<double>(j) * kPi - m.sine_phase_rad) / omega;
+    double s = shift;
+    bool settled = false;
+    for (int iteration = 0; iteration < 12 && !settled; ++iteration) {
+      const double a = nominal + s - period / 8, b = nominal + s + period / 8;
+      if (a < t_lo || b > t_hi) break;
+      double num = 0, den = 0;
+      int used = 0;
+      for (const double* p = std::lower_bound(begin + w.first, end, a); p != end && *p <= b; ++p) {
+        const double alpha = r.alpha[p - begin];
+        if (!std::isfinite(alpha)) continue;
+        const double slope = fitted.alpha_rate_deg_s(*p - s);
+        num += (alpha - fitted.alpha_deg(*p - s)) * slope;
+        den += slope * slope;
+        ++used;
+      }
+      if (used < 8 || !(den > 0)) break;
+      const double step = std::clamp(-num / den, -period / 16, period / 16);
+      s += step;
+      settled = std::abs(step) < 1e-9 * period;
+    }
+    if (!settled) continue;
+    shift = s;
+    if (!m.node_t_s.empty() && nominal + s <= m.node_t_s.back()) continue;
+    m.node_t_s.push_back(nominal + s);
+    m.node_theta_rad.push_back(static_cast<double>(j) * kPi);
+  }
+  if (m.node_t_s.size() < 2) m.node_t_s.clear(), m.node_theta_rad.clear();
+}
+
+// The periodic motion as later stages use it: the fit, the phase (per cycle or
+// fitted) and the complete cycles.
+MotionFit periodic_motion(const Record& r, const MotionWindow& w, const numerics::SinusoidFit& fit, bool per_cycle) {
+  const double f = fit.frequency_hz, period = 1 / f;
+  const Eigen::Index n = r.t.size();
+  MotionFit m;
+  m.freq_hz = f;
+  m.alpha_mean_deg = fit.mean;
+  m.alpha_amp_deg = fit.amplitude;
+  m.sine_phase_rad = fit.phase_rad;
+  for (const auto& h : fit.harmonics) {
+    m.harmonic_sin_deg.push_back(h.real());
+    m.harmonic_cos_deg.push_back(h.imag());
+  }
+  if (per_cycle) measure_phase_nodes(r, w, m);
+  // Cycle 0 starts at the first minimum of the fundamental (theta = -pi/2)
+  // of the motion. The rest band takes in the first and last few degrees of
+  // phase (a sine leaves its minimum slowly), so a cycle may start up to 0.15
+  // of a period before the motion window; one that starts earlier belongs to
+  // the model at rest.
+  const double margin = 0.15 * period;
+  const double t_begin = std::max(r.t[0], r.t[w.first] - (w.first > 0 ? margin : 0.0));
+  const double t_end = std::min(r.t[n - 1], r.t[w.last - 1] + (w.last < n ? margin : 0.0));
+  const double theta_begin = m.theta(t_begin);
+  double lead = std::fmod(-0.5 * kPi - theta_begin, 2 * kPi);
+  if (lead < 0) lead += 2 * kPi;
+  m.cycle_origin_s = m.time_at_theta(theta_begin + lead);
+  m.cycles = std::max<std::int64_t>(
+      0, static_cast<std::int64_t>(std::floor((m.theta(t_end) - theta_begin - lead) / (2 * kPi) + 1e-9)));
+  return m;
+}
+
+// rms of the measured angle about the motion's fundamental (on its phase)
+// over the window, as a fraction of the amplitude.
+double motion_misfit(const Record& r, const MotionWindow& w, const MotionFit& m) {
+  double ss = 0;
+  Eigen::Index used = 0;
+  for (Eigen::Index i = w.first; i < w.last; ++i)
+    if (std::isfinite(r.alpha[i])) {
+      const double e = r.alpha[i] - m.alpha_mean_deg - m.alpha_amp_deg * std::sin(m.theta(r.t[i]));
+      ss += e * e;
+      ++used;
+    }
+  return used ? std::sqrt(ss / static_cast<double>(used)) / m.alpha_amp_deg : INFINITY;
+}
+
 // --- sine ------------------------------------------------------------------
 
 std::optional<numerics::SinusoidFit> try_sine(const Record& r, const MotionWindow& w, const MotionStage::Options& o,
@@ -95,6 +187,13 @@ std::optional<numerics::SinusoidFit> try_sine(const Record& r, const MotionWindo
     trial.fits = misfit <= o.max_residual_fraction;
     trial.why = "a sine at " + num(fit.frequency_hz) + " Hz leaves an rms misfit of " + num(100 * misfit, 3) +
                 " % of its amplitude (max_residual_fraction = " + num(o.max_residual_fraction) + ")";
+    if (o.phase == "per_cycle") {
+      // A drifting frequency: the fundamental on the phase measured cycle by cycle.
+      const double local = motion_misfit(r, w, periodic_motion(r, w, fit, true));
+      if (local < misfit) fit.rms_residual_fundamental = local * fit.amplitude;
+      trial.fits = trial.fits || local <= o.max_residual_fraction;
+      trial.why += ", " + num(100 * local, 3) + " % on the phase measured cycle by cycle";
+    }
     return fit;
   } catch (const std::invalid_argument& e) {
     trial.why = std::string("no sine fits (") + e.what() + ")";
@@ -102,30 +201,11 @@ std::optional<numerics::SinusoidFit> try_sine(const Record& r, const MotionWindo
   }
 }
 
-void write_sine(RunStore& s, const Record& r, const MotionWindow& w, const numerics::SinusoidFit& fit) {
-  const double f = fit.frequency_hz, omega = 2 * kPi * f, period = 1 / f;
+void write_sine(RunStore& s, const Record& r, const MotionWindow& w, const numerics::SinusoidFit& fit,
+                bool per_cycle) {
+  const double f = fit.frequency_hz, omega = 2 * kPi * f;
   const Eigen::Index n = r.t.size();
-  // Cycle 0 starts at the first minimum of the fundamental (theta = -pi/2)
-  // of the motion. The rest band takes in the first and last few degrees of
-  // phase (a sine leaves its minimum slowly), so a cycle may start up to 0.15
-  // of a period before the motion window; one that starts earlier belongs to
-  // the model at rest.
-  const double margin = 0.15 * period;
-  const double t_begin = std::max(r.t[0], r.t[w.first] - (w.first > 0 ? margin : 0.0));
-  const double t_end = std::min(r.t[n - 1], r.t[w.last - 1] + (w.last < n ? margin : 0.0));
-  double lead = std::fmod(-0.5 * kPi - fit.theta(t_begin), 2 * kPi);
-  if (lead < 0) lead += 2 * kPi;
-  MotionFit m;
-  m.freq_hz = f;
-  m.alpha_mean_deg = fit.mean;
-  m.alpha_amp_deg = fit.amplitude;
-  m.sine_phase_rad = fit.phase_rad;
-  m.cycle_origin_s = t_begin + lead / omega;
-  m.cycles = std::max<std::int64_t>(0, static_cast<std::int64_t>(std::floor((t_end - m.cycle_origin_s) * f + 1e-9)));
-  for (const auto& h : fit.harmonics) {
-    m.harmonic_sin_deg.push_back(h.real());
-    m.harmonic_cos_deg.push_back(h.imag());
-  }
+  const MotionFit m = periodic_motion(r, w, fit, per_cycle);
 
   // Outside the motion the model rests: its rest level, no rate, no phase.
   Eigen::VectorXd alpha(n), rate(n), phase(n), cycle(n);
@@ -176,8 +256,17 @@ void write_sine(RunStore& s, const Record& r, const MotionWindow& w, const numer
       {"harmonic_distortion", fit.distortion},
       {"max_pitch_rate_deg_s", fit.amplitude * omega},
       {"max_pitch_rate_nondim", fit.amplitude * kDegToRad * k},  // r = alpha_dot c / (2U) at its peak
+      {"phase", std::string(m.node_t_s.empty() ? "fitted: one frequency" : "per cycle: motion/phase_nodes")},
   };
   s.put("motion/fit", std::move(table), std::move(attrs));
+  if (!m.node_t_s.empty()) {
+    // The measured phase, for the record and for the stages that place their samples in it.
+    Table nodes;
+    nodes.add({"t_s", "s", m.node_t_s}).add({"theta_rad", "rad", m.node_theta_rad});
+    s.put("motion/phase_nodes", std::move(nodes),
+          {{"definition", std::string("the fundamental's phase variable theta measured at the angle's mean crossings "
+                                      "(theta = 0, pi mod 2 pi); linear between them, the fitted frequency beyond")}});
+  }
   s.put("motion/alpha_deg", Series{std::move(alpha), "deg"}, {{"source", std::string("fitted motion")}});
   s.put("motion/alpha_rate_deg_s", Series{std::move(rate), "deg/s"}, {{"source", std::string("fitted motion")}});
   s.put("motion/phase_deg", Series{std::move(phase), "deg"},
@@ -307,7 +396,9 @@ std::optional<PeriodicRamp> try_periodic_ramp(const Record& r, const MotionWindo
 }
 
 void write_periodic_ramp(RunStore& s, const Record& r, const MotionWindow& w, const PeriodicRamp& p) {
-  write_sine(s, r, w, p.fit);  // motion/fit, phase and cycle, as for any periodic motion
+  // motion/fit, phase and cycle as for any periodic motion, on the fitted phase
+  // (the ramps were fitted on its cycles).
+  write_sine(s, r, w, p.fit, false);
   const MotionFit m = MotionFit::from_store(s, "motion");
   const double period = m.period_s();
   // Within complete cycles the angle and rate are the cycle's own ramps and holds.
@@ -461,21 +552,49 @@ void write_plateaus(RunStore& s, const Record& r, const std::vector<numerics::Pl
 
 // --- MotionFit ---------------------------------------------------------------
 
-double MotionFit::phase_deg(double t) const {
-  const double turns = (t - cycle_origin_s) * freq_hz;
-  double p = 360.0 * (turns - std::floor(turns));
-  return p >= 360.0 ? 0.0 : p;
+double MotionFit::theta(double t) const {
+  const double omega = 2 * kPi * freq_hz;
+  const auto& nt = node_t_s;
+  if (nt.empty()) return omega * t + sine_phase_rad;
+  if (t <= nt.front()) return node_theta_rad.front() + omega * (t - nt.front());
+  if (t >= nt.back()) return node_theta_rad.back() + omega * (t - nt.back());
+  const auto k = static_cast<std::size_t>(std::upper_bound(nt.begin(), nt.end(), t) - nt.begin());
+  const double u = (t - nt[k - 1]) / (nt[k] - nt[k - 1]);
+  return node_theta_rad[k - 1] + u * (node_theta_rad[k] - node_theta_rad[k - 1]);
 }
 
-std::int64_t MotionFit::cycle(double t) const {
-  const auto c = static_cast<std::int64_t>(std::floor((t - cycle_origin_s) * freq_hz + 1e-9));
-  return c >= 0 && c < cycles ? c : -1;
+double MotionFit::theta_rate(double t) const {
+  const auto& nt = node_t_s;
+  if (nt.empty() || t <= nt.front() || t >= nt.back()) return 2 * kPi * freq_hz;
+  const auto k = static_cast<std::size_t>(std::upper_bound(nt.begin(), nt.end(), t) - nt.begin());
+  return (node_theta_rad[k] - node_theta_rad[k - 1]) / (nt[k] - nt[k - 1]);
 }
 
-double MotionFit::cycle_start_s(std::int64_t c) const { return cycle_origin_s + static_cast<double>(c) / freq_hz; }
+double MotionFit::time_at_theta(double th) const {
+  const double omega = 2 * kPi * freq_hz;
+  const auto& nh = node_theta_rad;
+  if (nh.empty()) return (th - sine_phase_rad) / omega;
+  if (th <= nh.front()) return node_t_s.front() + (th - nh.front()) / omega;
+  if (th >= nh.back()) return node_t_s.back() + (th - nh.back()) / omega;
+  const auto k = static_cast<std::size_t>(std::upper_bound(nh.begin(), nh.end(), th) - nh.begin());
+  const double u = (th - nh[k - 1]) / (nh[k] - nh[k - 1]);
+  return node_t_s[k - 1] + u * (node_t_s[k] - node_t_s[k - 1]);
+}
+
+MotionFit::CyclePhase MotionFit::at(double t) const {
+  const double turns = (theta(t) - theta(cycle_origin_s)) / (2 * kPi);
+  const auto c = static_cast<std::int64_t>(std::floor(turns + 1e-9));
+  const double p = 360.0 * (turns - std::floor(turns));
+  return {c >= 0 && c < cycles ? c : -1, p >= 360.0 ? 0.0 : p};
+}
+
+double MotionFit::cycle_start_s(std::int64_t c) const {
+  if (node_t_s.empty()) return cycle_origin_s + static_cast<double>(c) / freq_hz;
+  return time_at_theta(theta(cycle_origin_s) + 2 * kPi * static_cast<double>(c));
+}
 
 double MotionFit::alpha_deg(double t) const {
-  const double th = 2 * kPi * freq_hz * t + sine_phase_rad;
+  const double th = theta(t);
   double a = alpha_mean_deg + alpha_amp_deg * std::sin(th);
   for (std::size_t j = 0; j < harmonic_sin_deg.size(); ++j) {
     const double h = static_cast<double>(j + 2);
@@ -485,13 +604,13 @@ double MotionFit::alpha_deg(double t) const {
 }
 
 double MotionFit::alpha_rate_deg_s(double t) const {
-  const double th = 2 * kPi * freq_hz * t + sine_phase_rad;
+  const double th = theta(t);
   double d = alpha_amp_deg * std::cos(th);
   for (std::size_t j = 0; j < harmonic_sin_deg.size(); ++j) {
     const double h = static_cast<double>(j + 2);
     d += h * (harmonic_sin_deg[j] * std::cos(h * th) - harmonic_cos_deg[j] * std::sin(h * th));
   }
-  return 2 * kPi * freq_hz * d;
+  return theta_rate(t) * d;
 }
 
 MotionFit MotionFit::from_store(const RunStore& store, const std::string& needed_by) {
@@ -515,6 +634,11 @@ MotionFit MotionFit::from_store(const RunStore& store, const std::string& needed
     m.harmonic_sin_deg.push_back(table.numbers("sin_deg")[i]);
     m.harmonic_cos_deg.push_back(table.numbers("cos_deg")[i]);
   }
+  if (store.contains("motion/phase_nodes")) {
+    const Table& nodes = store.get<Table>("motion/phase_nodes");
+    m.node_t_s = nodes.numbers("t_s");
+    m.node_theta_rad = nodes.numbers("theta_rad");
+  }
   return m;
 }
 
@@ -534,6 +658,7 @@ void MotionStage::configure(ConfigSection& s) {
             "expected an angle band in degrees, > 0 and < 10");
   options_.plateau_min_duration_s = s.number("plateau_min_duration_s", options_.plateau_min_duration_s);
   s.require(options_.plateau_min_duration_s > 0, "plateau_min_duration_s", "expected a duration > 0 s");
+  options_.phase = s.choice("phase", {"per_cycle", "fitted"}, options_.phase);
   options_.plateau_settle_s = s.number("plateau_settle_s", options_.plateau_settle_s);
   s.require(options_.plateau_settle_s >= 0 && options_.plateau_settle_s < options_.plateau_min_duration_s,
             "plateau_settle_s", "expected a settling time >= 0 and shorter than plateau_min_duration_s");
@@ -548,7 +673,7 @@ std::vector<std::string> MotionStage::outputs() const {
                                   "run/alpha_amp_deg", "run/freq_hz", "run/k"};
   const std::string& t = options_.type;
   if (t == "auto" || t == "sine" || t == "ramp")
-    out.insert(out.end(), {"motion/fit", "motion/phase_deg", "motion/cycle"});
+    out.insert(out.end(), {"motion/fit", "motion/phase_deg", "motion/cycle", "motion/phase_nodes"});
   if (t == "auto" || t == "ramp") out.push_back("motion/ramps");
   if (t == "auto" || t == "static" || t == "staircase") out.push_back("motion/plateaus");
   if (t == "auto" || t == "ramp")
@@ -619,7 +744,7 @@ void MotionStage::run(RunContext& context) {
           }
         }
       }
-      return write_sine(s, r, window, *fit);
+      return write_sine(s, r, window, *fit, options_.phase == "per_cycle");
     }
     reasons.push_back(trial.why);
   }

@@ -7,7 +7,10 @@
 // phase and the cycle of every sample.
 //
 // Phase convention: phase 0 is the minimum angle of the fundamental (a cycle
-// starts there), 180 deg the maximum, so 0-180 is the upstroke.
+// starts there), 180 deg the maximum, so 0-180 is the upstroke. With phase =
+// "per_cycle" (the default) the phase is measured at every mean crossing of
+// the angle (motion/phase_nodes) and runs linearly between them, so each cycle
+// keeps its own period when the pitch frequency drifts.
 #include <cstdint>
 #include <string>
 #include <vector>
@@ -26,13 +29,25 @@ struct MotionFit {
   double cycle_origin_s = 0;   // start (minimum angle) of cycle 0, the first complete cycle
   std::int64_t cycles = 0;     // complete cycles in the record: 0 .. cycles-1
   std::vector<double> harmonic_sin_deg, harmonic_cos_deg;  // h = 2.. on the fundamental's phase variable
+  // The fundamental's phase variable measured at its mean crossings (times
+  // increasing, theta a multiple of pi); empty: the fitted line 2 pi f t + phase.
+  std::vector<double> node_t_s, node_theta_rad;
 
-  double phase_deg(double t) const;           // [0, 360), 0 at the minimum angle
-  std::int64_t cycle(double t) const;          // -1 outside the complete cycles
-  double cycle_start_s(std::int64_t c) const;  // cycle_origin_s + c / f
+  double theta(double t) const;             // the fundamental's phase variable, rad
+  double theta_rate(double t) const;        // its rate, rad/s
+  double time_at_theta(double theta) const;  // the inverse of theta(t)
+
+  struct CyclePhase {
+    std::int64_t cycle;  // -1 outside the complete cycles
+    double phase_deg;    // [0, 360), 0 at the minimum angle
+  };
+  CyclePhase at(double t) const;               // both at once (one phase evaluation)
+  double phase_deg(double t) const { return at(t).phase_deg; }
+  std::int64_t cycle(double t) const { return at(t).cycle; }
+  double cycle_start_s(std::int64_t c) const;  // where theta has advanced c turns from cycle_origin_s
   double alpha_deg(double t) const;            // fundamental + harmonics
   double alpha_rate_deg_s(double t) const;
-  double period_s() const { return 1.0 / freq_hz; }
+  double period_s() const { return 1.0 / freq_hz; }  // the mean period
 
   // Reads motion/fit; throws InputError naming `needed_by` when the run's
   // motion is not periodic (no motion/fit in the store).
@@ -52,6 +67,7 @@ class MotionStage final : public Stage {
     double plateau_tolerance_deg = 0.2; // a steady angle stays within +- this of its mean
     double plateau_min_duration_s = 1.0;
     double plateau_settle_s = 0.0;      // left out at the start of each plateau
+    std::string phase = "per_cycle";    // per_cycle (measured at each mean crossing) | fitted (one frequency)
   };
 
   std::string_view name() const override { return kName; }

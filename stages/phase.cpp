@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <map>
 
 #include "pipeline/errors.hpp"
 #include "stages/motion.hpp"
@@ -32,9 +33,9 @@ struct Members {
 Members phase_members(const Eigen::VectorXd& t, const MotionFit& motion, const std::vector<bool>& use, int bins) {
   Members m;
   for (Eigen::Index i = 0; i < t.size(); ++i) {
-    const std::int64_t c = motion.cycle(t[i]);
+    const auto [c, phase] = motion.at(t[i]);
     if (c < 0 || !use[static_cast<std::size_t>(c)]) continue;
-    const int b = std::min(bins - 1, static_cast<int>(motion.phase_deg(t[i]) * bins / 360.0));
+    const int b = std::min(bins - 1, static_cast<int>(phase * bins / 360.0));
     m.sample.push_back(i);
     m.bin.push_back(b);
     m.cycle.push_back(c);
@@ -63,7 +64,7 @@ Members aligned_members(const Eigen::VectorXd& t, const std::vector<std::pair<st
 struct Group {
   std::string name;    // store key below phase/ ("alpha_deg", "cn", "cp")
   std::string source;  // for messages
-  Eigen::MatrixXd values;
+  Eigen::Map<const Eigen::MatrixXd> values;  // the store's data, not a copy
   std::string units;
   std::vector<std::string> columns;  // for Cp: tap names
   const Eigen::VectorXd* time = nullptr;
@@ -169,7 +170,8 @@ void PhaseStage::run(RunContext& context) {
   // The quantities, each on its own time base.
   std::vector<Group> groups;
   {
-    Group a{"alpha_deg", "signals/alpha_deg", s.get<Series>("signals/alpha_deg").values, "deg", {},
+    auto column = [](const Eigen::VectorXd& v) { return Eigen::Map<const Eigen::MatrixXd>(v.data(), v.size(), 1); };
+    Group a{"alpha_deg", "signals/alpha_deg", column(s.get<Series>("signals/alpha_deg").values), "deg", {},
             &s.get<Series>("signals/time_s").values, false};
     groups.push_back(std::move(a));
     const Eigen::VectorXd& lt = s.get<Series>("loads/time_s").values;
@@ -177,12 +179,13 @@ void PhaseStage::run(RunContext& context) {
       const Series& v = s.get<Series>("loads/" + l);
       if (v.values.size() != lt.size())
         throw std::logic_error("loads/" + l + " and loads/time_s differ in length");
-      groups.push_back(Group{l, "loads/" + l, v.values, "1", {}, &lt, false});
+      groups.push_back(Group{l, "loads/" + l, column(v.values), "1", {}, &lt, false});
     }
     if (options_.cp && s.contains("pressure/cp") && s.contains("pressure/time_s")) {
       const Matrix& cp = s.get<Matrix>("pressure/cp");
-      groups.push_back(Group{"cp", "pressure/cp", cp.values, "1", cp.columns, &s.get<Series>("pressure/time_s").values,
-                             true});
+      groups.push_back(Group{"cp", "pressure/cp",
+                             Eigen::Map<const Eigen::MatrixXd>(cp.values.data(), cp.values.rows(), cp.values.cols()),
+                             "1", cp.columns, &s.get<Series>("pressure/time_s").values, true});
     }
   }
 
@@ -192,8 +195,11 @@ void PhaseStage::run(RunContext& context) {
                          {"cycles_averaged", static_cast<std::int64_t>(used)},
                          {"bin_width_deg", 360.0 / bins}};
   std::vector<numerics::BinnedStatistics> stats;
+  std::map<const Eigen::VectorXd*, Members> members;  // once per time base: the loads and Cp share one
   for (const Group& g : groups) {
-    const Members m = phase_members(*g.time, motion, use, bins);
+    auto found = members.find(g.time);
+    if (found == members.end()) found = members.emplace(g.time, phase_members(*g.time, motion, use, bins)).first;
+    const Members& m = found->second;
     stats.push_back(numerics::bin_statistics(g.values, m.sample, m.bin, bins, context.threads()));
     check_filled(stats.back(), g, bins_where_, bins, "phase", used);
     write_stats(s, "phase/", g, stats.back(), attrs);

@@ -23,12 +23,59 @@ double sample_std(std::span<const double> x) {
   return std::sqrt(ss / static_cast<double>(x.size() - 1));
 }
 
+namespace {
+
+// Moves the elements of [lo, hi) that satisfy `in_front` to its front and
+// returns where the rest begin. Branch-free (Lomuto's scheme with the swap
+// always done): on noisy data a branch per element would mispredict half the time.
+template <typename Pred>
+std::size_t partition_front(double* a, std::size_t lo, std::size_t hi, Pred in_front) {
+  std::size_t i = lo;
+  for (std::size_t j = lo; j < hi; ++j) {
+    const double v = a[j];
+    const bool front = in_front(v);
+    a[j] = a[i];
+    a[i] = v;
+    i += front ? 1 : 0;
+  }
+  return i;
+}
+
+// Reorders a[0, n) so that a[k] is its k-th smallest, nothing before it larger
+// and nothing after it smaller (what std::nth_element does), by quickselect
+// with a median-of-three pivot. Values must be comparable (no NaN).
+void select_kth(double* a, std::size_t n, std::size_t k) {
+  std::size_t lo = 0, hi = n;
+  while (hi - lo > 16) {
+    const double x = a[lo], y = a[lo + (hi - lo) / 2], z = a[hi - 1];
+    const double pivot = std::max(std::min(x, y), std::min(std::max(x, y), z));
+    const std::size_t less = partition_front(a, lo, hi, [pivot](double v) { return v < pivot; });
+    if (k < less) {
+      hi = less;
+    } else if (less > lo) {
+      lo = less;
+    } else {
+      // Nothing below the pivot: split off its copies (at least one, it is an element) so the range shrinks.
+      const std::size_t equal = partition_front(a, lo, hi, [pivot](double v) { return v <= pivot; });
+      if (k < equal) return;
+      lo = equal;
+    }
+  }
+  for (std::size_t i = lo + 1; i < hi; ++i)  // insertion sort of the small rest
+    for (std::size_t j = i; j > lo && a[j] < a[j - 1]; --j) std::swap(a[j], a[j - 1]);
+}
+
+}  // namespace
+
 double percentile(std::span<double> x, double p) {
   if (x.empty()) throw std::invalid_argument("percentile of an empty set");
   if (!(p >= 0 && p <= 1)) throw std::invalid_argument("percentile: p must be in [0, 1]");
   const double h = p * static_cast<double>(x.size() - 1);
   const auto lo = static_cast<std::size_t>(std::floor(h));
-  std::nth_element(x.begin(), x.begin() + static_cast<std::ptrdiff_t>(lo), x.end());
+  if (std::any_of(x.begin(), x.end(), [](double v) { return std::isnan(v); }))
+    std::nth_element(x.begin(), x.begin() + static_cast<std::ptrdiff_t>(lo), x.end());
+  else
+    select_kth(x.data(), x.size(), lo);
   const double v_lo = x[lo];
   if (lo + 1 >= x.size() || h == static_cast<double>(lo)) return v_lo;
   // The next order statistic is the smallest of the upper part.

@@ -189,16 +189,94 @@ TEST(MotionStage, SaysWhichForcedTypeDoesNotFitAndWhy) {
   }
 }
 
-TEST(MotionStage, ExplainsAMotionThatIsNoneOfTheKnownKinds) {
+// A pitch drive whose frequency drifts 6 % over the record (2.0 to 2.12 Hz):
+// alpha = 10 + 8 sin(2 pi (f0 t + beta t^2 / 2) + 0.3), minima in closed form.
+// The phase measured at each mean crossing keeps every cycle start on its
+// minimum; one fitted frequency puts them up to 12 deg of phase off.
+TEST(MotionStage, FollowsADriftingPitchFrequencyCycleByCycle) {
+  const double f0 = 2.0, beta = 0.024, phi = 0.3;
+  auto true_phase = [&](double t) { return 2 * kPi * (f0 * t + 0.5 * beta * t * t) + phi; };
+  auto true_minimum = [&](int m) {  // the m-th minimum after t = 0
+    const double c = (1.5 * kPi - phi) / (2 * kPi) + m;
+    return (-f0 + std::sqrt(f0 * f0 + 2 * beta * c)) / beta;
+  };
   Harness h;
   testing::put_conditions(h.store, 0.3, 20);
-  const Eigen::VectorXd t = testing::time_base(0, 500, 4.0);
-  std::mt19937 gen(5);
-  std::uniform_real_distribution<double> jump(0, 15);
+  const Eigen::VectorXd t = testing::time_base(0, 1000, 5.0);
+  std::mt19937 gen(9);
+  std::normal_distribution<double> noise(0.0, 0.05);
   Eigen::VectorXd a(t.size());
-  for (Eigen::Index i = 0; i < t.size(); ++i) a[i] = jump(gen);  // random angles: no motion at all
+  for (Eigen::Index i = 0; i < t.size(); ++i) a[i] = 10 + 8 * std::sin(true_phase(t[i])) + noise(gen);
   h.store.put("signals/time_s", Series{t, "s"});
   h.store.put("signals/alpha_deg", Series{a, "deg"});
+  MotionStage stage;
+  h.run(stage);
+  ASSERT_EQ(h.store.get<Text>("run/motion").value, "sine");
+  ASSERT_TRUE(h.store.contains("motion/phase_nodes"));
+  const MotionFit m = MotionFit::from_store(h.store, "test");
+  ASSERT_GE(m.cycles, 9);
+  double worst_start = 0, worst_phase = 0;
+  for (std::int64_t c = 0; c <= m.cycles; ++c) {
+    worst_start = std::max(worst_start, std::abs(m.cycle_start_s(c) - true_minimum(static_cast<int>(c))));
+    const double tc = m.cycle_start_s(c) + 0.3 / f0;  // somewhere inside the cycle
+    if (c == m.cycles) break;
+    double truth = std::fmod((true_phase(tc) - true_phase(true_minimum(0))) / (2 * kPi), 1.0) * 360;
+    double e = std::remainder(m.phase_deg(tc) - truth, 360.0);
+    worst_phase = std::max(worst_phase, std::abs(e));
+  }
+  EXPECT_LT(worst_start, 1e-3);  // s, 0.7 deg of phase at 2 Hz (measured 0.13 ms)
+  EXPECT_LT(worst_phase, 1.0);   // deg (measured 0.38)
+  // Each cycle's own period shows the drift: later cycles are shorter.
+  EXPECT_GT(m.cycle_start_s(1) - m.cycle_start_s(0), m.cycle_start_s(m.cycles) - m.cycle_start_s(m.cycles - 1));
+
+  // One fitted frequency cannot follow it.
+  Harness fitted;
+  testing::put_conditions(fitted.store, 0.3, 20);
+  fitted.store.put("signals/time_s", Series{t, "s"});
+  fitted.store.put("signals/alpha_deg", Series{a, "deg"});
+  MotionStage one_frequency;
+  fitted.run(one_frequency, "phase = \"fitted\"\nmax_residual_fraction = 0.5\n");
+  const MotionFit g = MotionFit::from_store(fitted.store, "test");
+  double worst_fitted = 0;
+  for (std::int64_t c = 0; c <= g.cycles; ++c)
+    for (int m2 = 0; m2 < 12; ++m2)
+      if (std::abs(g.cycle_start_s(c) - true_minimum(m2)) < 0.25)
+        worst_fitted = std::max(worst_fitted, std::abs(g.cycle_start_s(c) - true_minimum(m2)));
+  EXPECT_GT(worst_fitted, 5 * worst_start);  // measured 17 ms, 12 deg of phase
+}
+
+// Random angles, 4 s at 500 Hz: no motion of any kind.
+void put_random_angles(Harness& h, unsigned seed) {
+  testing::put_conditions(h.store, 0.3, 20);
+  const Eigen::VectorXd t = testing::time_base(0, 500, 4.0);
+  std::mt19937 gen(seed);
+  std::uniform_real_distribution<double> jump(0, 15);
+  Eigen::VectorXd a(t.size());
+  for (Eigen::Index i = 0; i < t.size(); ++i) a[i] = jump(gen);
+  h.store.put("signals/time_s", Series{t, "s"});
+  h.store.put("signals/alpha_deg", Series{a, "deg"});
+}
+
+TEST(MotionStage, SaysWhyAForcedRampDoesNotFitAndNothingIsWritten) {
+  Harness h;
+  put_random_angles(h, 11);
+  MotionStage stage;
+  try {
+    h.run(stage, "type = \"ramp\"\n");
+    FAIL() << "expected an InputError";
+  } catch (const InputError& e) {
+    const std::string what = e.what();
+    EXPECT_NE(what.find("run.toml:2"), std::string::npos) << what;
+    EXPECT_NE(what.find("type = \"ramp\" does not fit signals/alpha_deg"), std::string::npos) << what;
+    EXPECT_NE(what.find("no ramp fits"), std::string::npos) << what;  // and why: each attempt's reason
+  }
+  EXPECT_FALSE(h.store.contains("motion/alpha_deg"));
+  EXPECT_FALSE(h.store.contains("run/motion"));
+}
+
+TEST(MotionStage, ExplainsAMotionThatIsNoneOfTheKnownKinds) {
+  Harness h;
+  put_random_angles(h, 5);
   MotionStage stage;
   try {
     h.run(stage);

@@ -1,11 +1,13 @@
 #include <gtest/gtest.h>
 
+#include <algorithm>
 #include <array>
 #include <cmath>
 #include <fstream>
 #include <random>
 #include <vector>
 
+#include "stages/numerics/binned_statistics.hpp"
 #include "stages/numerics/plateaus.hpp"
 #include "stages/numerics/resample.hpp"
 #include "stages/numerics/spectrum.hpp"
@@ -63,6 +65,64 @@ TEST(AmplitudeSpectrum, AgreesWithNumpysRealFft) {
     // The refined peak lies within half a bin of the true 3.7 Hz (bin width 0.2 Hz).
     EXPECT_NEAR(peak.frequency_hz, 3.7, 0.5 * rate / static_cast<double>(n));
   }
+}
+
+// The selection is our own quickselect: the order statistics of a full sort,
+// exactly, on random data, on data with many repeated values and on sorted data.
+TEST(Percentile, SelectsTheSameOrderStatisticsAsAFullSort) {
+  std::mt19937 gen(3);
+  std::normal_distribution<double> normal;
+  std::uniform_int_distribution<int> small(0, 4);
+  for (int trial = 0; trial < 300; ++trial) {
+    const std::size_t n = 1 + static_cast<std::size_t>(trial) * 7 % 700;
+    std::vector<double> v(n);
+    for (auto& x : v) x = trial % 3 == 0 ? small(gen) : normal(gen);
+    if (trial % 10 == 5) std::sort(v.begin(), v.end());
+    std::vector<double> sorted = v;
+    std::sort(sorted.begin(), sorted.end());
+    for (double p : {0.0, 0.05, 0.5, 0.95, 1.0}) {
+      const double h = p * static_cast<double>(n - 1);
+      const auto lo = static_cast<std::size_t>(std::floor(h));
+      const double expected = lo + 1 < n ? sorted[lo] + (h - lo) * (sorted[lo + 1] - sorted[lo]) : sorted[lo];
+      std::vector<double> w = v;
+      EXPECT_DOUBLE_EQ(percentile(w, p), expected) << "n " << n << " p " << p;
+    }
+  }
+}
+
+// Bin statistics take p05 and p95 from the tails when a bin is large: the
+// same values as percentile over the whole bin, whatever the distribution.
+TEST(BinStatistics, TakeTheSamePercentilesAsTheWholeBinForAnyDistribution) {
+  std::mt19937 gen(21);
+  std::normal_distribution<double> normal;
+  std::exponential_distribution<double> skewed(1.0);
+  std::uniform_int_distribution<int> few(0, 2);
+  const int bins = 12, rows = 6000;
+  Eigen::MatrixXd y(rows, 5);
+  for (int i = 0; i < rows; ++i) {
+    y(i, 0) = normal(gen);
+    y(i, 1) = std::pow(skewed(gen), 3);                  // long upper tail
+    y(i, 2) = few(gen);                                   // three values only
+    y(i, 3) = (i % 2 ? 10 : -10) + 0.01 * normal(gen);    // two clusters
+    y(i, 4) = i % 7 == 0 ? 100.0 : 0.001 * normal(gen);  // rare outliers
+  }
+  std::vector<Eigen::Index> sample;
+  std::vector<int> bin;
+  for (int i = 0; i < rows; ++i) {
+    sample.push_back(i);
+    bin.push_back((i * 7 + i / 13) % bins);
+  }
+  const BinnedStatistics st = bin_statistics(y, sample, bin, bins);
+  for (Eigen::Index j = 0; j < y.cols(); ++j)
+    for (int b = 0; b < bins; ++b) {
+      std::vector<double> v;
+      for (int i = 0; i < rows; ++i)
+        if (bin[static_cast<std::size_t>(i)] == b) v.push_back(y(i, j));
+      std::vector<double> w = v;
+      EXPECT_DOUBLE_EQ(st.p05(b, j), percentile(w, 0.05)) << "column " << j << " bin " << b;
+      EXPECT_DOUBLE_EQ(st.p95(b, j), percentile(w, 0.95)) << "column " << j << " bin " << b;
+      EXPECT_EQ(st.n(b, j), static_cast<int>(v.size()));
+    }
 }
 
 TEST(Percentile, InterpolatesBetweenOrderStatisticsLikeNumpy) {

@@ -70,7 +70,9 @@ TEST(PhaseStage, AveragesIntoBinsAsNumpyDoes) {
     out.precision(17);
     const Eigen::VectorXd& t = h.store.get<Series>("signals/time_s").values;
     const Eigen::VectorXd& cl = h.store.get<Series>("loads/cl").values;
-    for (Eigen::Index i = 0; i < t.size(); ++i) out << t[i] << " " << cl[i] << "\n";
+    // The phase and cycle of each sample as the motion gives them (per cycle,
+    // measured at the mean crossings): numpy checks the binning statistics.
+    for (Eigen::Index i = 0; i < t.size(); ++i) out << m.phase_deg(t[i]) << " " << m.cycle(t[i]) << " " << cl[i] << "\n";
     std::ofstream meta(dir / "meta.txt");
     meta.precision(17);
     meta << m.freq_hz << " " << m.cycle_origin_s << " " << m.cycles << "\n";
@@ -80,13 +82,11 @@ TEST(PhaseStage, AveragesIntoBinsAsNumpyDoes) {
   }
   const auto script = dir.write("bins.py",
                                 "import sys, numpy as np\n"
-                                "t, y = np.loadtxt(sys.argv[1], unpack=True)\n"
+                                "phase, cycle, y = np.loadtxt(sys.argv[1], unpack=True)\n"
+                                "cycle = cycle.astype(int)\n"
                                 "lines = open(sys.argv[2]).read().split('\\n')\n"
                                 "f, origin, ncyc = [float(v) for v in lines[0].split()]\n"
                                 "valid = set(int(v) for v in lines[1].split())\n"
-                                "turns = (t - origin) * f\n"
-                                "cycle = np.floor(turns + 1e-9).astype(int)\n"
-                                "phase = 360.0 * (turns - np.floor(turns))\n"
                                 "b = np.minimum((phase * 36 / 360.0).astype(int), 35)\n"
                                 "use = np.array([(0 <= c < ncyc) and (c in valid) for c in cycle])\n"
                                 "for k in range(36):\n"

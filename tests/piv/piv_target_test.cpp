@@ -2,7 +2,6 @@
 // mapping (anti-aliased, 4 x 4 sub-samples per pixel), found again by OpenCV
 // and fitted with a homography.
 #include "calib/piv/piv_target.hpp"
-#include "calib/piv/piv_target_command.hpp"
 
 #include <gtest/gtest.h>
 
@@ -118,24 +117,44 @@ TEST(PivTargetCommand, WritesACalibrationFileThatReadsBack) {
 }
 
 TEST(CalibCommand, RunsPivTargetFromTheCommandLine) {
+  using stallscope::testing::run_stallscope;
+  using stallscope::testing::shell_quote;
   stallscope::testing::ScratchDir dir;
   PivTarget t;
   t.spacing_m = 0.001;
   const std::string image = (dir / "sheet.png").string(), out = (dir / "sheet.toml").string();
   ASSERT_TRUE(cv::imwrite(image, render(t, true_homography())));
-  std::vector<std::string> words = {"stallscope", "calib", "piv-target", image, "-o", out, "--spacing-m", "0.001"};
-  std::vector<char*> argv;
-  for (auto& w : words) argv.push_back(w.data());
-  EXPECT_EQ(run_calib_command(static_cast<int>(argv.size()), argv.data()), 0);
+  const auto ok = run_stallscope("calib piv-target " + shell_quote(image) + " -o " + shell_quote(out) +
+                                 " --spacing-m 0.001");
+  EXPECT_EQ(ok.exit_code, 0) << ok.err;
   EXPECT_TRUE(std::filesystem::exists(out));
-  std::vector<std::string> other = {"stallscope", "reduce", "x.toml"};
-  std::vector<char*> argv2;
-  for (auto& w : other) argv2.push_back(w.data());
-  EXPECT_FALSE(run_calib_command(static_cast<int>(argv2.size()), argv2.data()).has_value());
-  std::vector<std::string> bad = {"stallscope", "calib", "piv-target", image, "-o", out};  // no spacing
-  std::vector<char*> argv3;
-  for (auto& w : bad) argv3.push_back(w.data());
-  EXPECT_EQ(run_calib_command(static_cast<int>(argv3.size()), argv3.data()), 2);
+  const auto no_spacing = run_stallscope("calib piv-target " + shell_quote(image) + " -o " +
+                                         shell_quote((dir / "other.toml").string()));
+  EXPECT_EQ(no_spacing.exit_code, 2);
+  EXPECT_NE(no_spacing.err.find("--spacing-m"), std::string::npos) << no_spacing.err;
+  EXPECT_FALSE(std::filesystem::exists(dir / "other.toml"));
+}
+
+// One `calib` subcommand in the main command line, with help at each level.
+TEST(CalibCommand, ListsItsHelpersInTheHelpAndNeedsOne) {
+  using stallscope::testing::run_stallscope;
+  const auto top = run_stallscope("--help");
+  EXPECT_EQ(top.exit_code, 0);
+  EXPECT_NE(top.out.find("calib"), std::string::npos) << top.out;
+  const auto calib = run_stallscope("calib --help");
+  EXPECT_EQ(calib.exit_code, 0);
+  EXPECT_NE(calib.out.find("transducer"), std::string::npos) << calib.out;
+  EXPECT_NE(calib.out.find("piv-target"), std::string::npos) << calib.out;
+  const auto transducer = run_stallscope("calib transducer --help");
+  EXPECT_EQ(transducer.exit_code, 0);
+  EXPECT_NE(transducer.out.find("--max-residual-pa"), std::string::npos) << transducer.out;
+  const auto piv = run_stallscope("calib piv-target --help");
+  EXPECT_EQ(piv.exit_code, 0);
+  EXPECT_NE(piv.out.find("--spacing-m"), std::string::npos) << piv.out;
+  const auto none = run_stallscope("calib");
+  EXPECT_EQ(none.exit_code, 2);
+  const auto unknown = run_stallscope("calib wobble");
+  EXPECT_EQ(unknown.exit_code, 2);
 }
 
 }  // namespace

@@ -244,6 +244,30 @@ TEST(PressurePath, ZeroOrNegativeQIsAnInputError) {
   m = message_of([&] { windy.run_stage<CpStage>("[cp]\nwindow_s = [0.5, 3.0]\n"); });
   EXPECT_NE(m.find("cp.window_s"), std::string::npos) << m;
   EXPECT_NE(m.find("q > 0"), std::string::npos) << m;
+  // A Pitot drop-out inside the automatically found wind-on span.
+  PressureRun dropout;
+  dropout.write();
+  dropout.run_stage<CalibrateStage>();
+  dropout.store.get_mutable<Series>("signals/q_pa").values[3000] = -0.5;
+  m = message_of([&] { dropout.run_stage<CpStage>("[cp]\n"); });
+  EXPECT_NE(m.find("t = 3 s inside the wind-on span found automatically"), std::string::npos) << m;
+  EXPECT_NE(m.find("q > 0"), std::string::npos) << m;
+}
+
+TEST(PressurePath, ATapTableWithNoTapsIsAnInputErrorNotACrash) {
+  PressureRun run;
+  run.write();
+  run.run_stage<CalibrateStage>();
+  Table& taps = run.store.get_mutable<Table>("signals/taps");
+  Table empty;
+  for (const Column& c : taps.columns) {
+    Column none = c;
+    std::visit([](auto& v) { v.clear(); }, none.data);
+    empty.add(std::move(none));
+  }
+  taps = std::move(empty);
+  const std::string m = message_of([&] { run.run_stage<CpStage>("[cp]\n"); });
+  EXPECT_NE(m.find("no taps"), std::string::npos) << m;
 }
 
 }  // namespace

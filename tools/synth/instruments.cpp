@@ -21,6 +21,9 @@ void write_calibration_file(const std::filesystem::path& path, const std::string
   for (const auto& c : channels) {
     out << fmt::format("\n[channels.{}]\ncoefficients = [{:.10g}, {:.10g}]\n", c.channel, c.offset, c.gain);
     if (!residual_key.empty()) out << fmt::format("{} = {:.6g}\n", residual_key, residual);
+    if (c.temperature_coefficient_per_k != 0.0)
+      out << fmt::format("temperature_coefficient_per_k = {:.10g}\nreference_temperature_c = {:.10g}\n",
+                         c.temperature_coefficient_per_k, c.reference_temperature_c);
   }
   if (!out) throw InputError(path.string(), "cannot write calibration file (disk full?)");
 }

@@ -14,6 +14,10 @@ struct ChannelCalibration {
   std::string channel;
   double offset = 0.0;  // c0, physical units
   double gain = 1.0;    // c1, physical units per volt
+  // Thermal sensitivity shift: the transducer reads (1 + tc (T - Tref)) x the
+  // true value, as the calibration file states (0: none, nothing written).
+  double temperature_coefficient_per_k = 0.0;
+  double reference_temperature_c = 20.0;
   double volts(double physical) const { return (physical - offset) / gain; }
   double physical(double volts) const { return offset + gain * volts; }
 };

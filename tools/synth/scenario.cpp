@@ -30,6 +30,9 @@ void read_nuisances(ConfigSection& noise, ConfigSection& scanner, ConfigSection&
   s.gain_spread = noise.number("gain_spread", off(s.gain_spread));
   s.encoder_noise_deg = noise.number("encoder_noise_deg", off(s.encoder_noise_deg));
   s.temperature_rise_k = noise.number("temperature_rise_k", off(s.temperature_rise_k));
+  s.temperature_coefficient_per_k = noise.number("temperature_coefficient_per_k", off(s.temperature_coefficient_per_k));
+  noise.require(std::abs(s.temperature_coefficient_per_k) < 0.01, "temperature_coefficient_per_k",
+                "expected a thermal sensitivity per kelvin, |tc| < 0.01");
   for (const char* k : {"white_v", "pink_v", "mains_v", "q_fluctuation", "zero_shift_pa", "zero_drift_pa",
                         "gain_spread", "encoder_noise_deg"})
     noise.require(noise.used()[k].value_or(0.0) >= 0.0, k, "expected a value >= 0");

@@ -128,6 +128,7 @@ struct Scenario {
   double gain_spread = 0.02;       // rms relative spread of transducer gains (stated in the file)
   double encoder_noise_deg = 0.02; // rms encoder noise
   double temperature_rise_k = 0.4; // air warms during the run
+  double temperature_coefficient_per_k = 2.0e-4;  // transducers' thermal sensitivity (each tap +-50 % rms), in the file
 
   // [scanner] multiplexed sampling: tap j of N is taken at t + j sweep / (N fs)
   double skew_sweep = 0.9;  // fraction of the sample period the scanner sweep takes (0: simultaneous)

@@ -177,6 +177,11 @@ SynthSummary write_synthetic_run(const Scenario& s, const fs::path& directory, b
     }
     c.calibration = {c.name, 5.0 * s.gain_spread * instrument_random.normal(),
                      tap_range / kDaqRangeVolts * (1.0 + s.gain_spread * instrument_random.normal())};
+    if (s.temperature_coefficient_per_k != 0.0) {
+      Random thermal(s.seed, "thermal " + c.name);
+      c.calibration.temperature_coefficient_per_k = s.temperature_coefficient_per_k * (1.0 + 0.5 * thermal.normal());
+      c.calibration.reference_temperature_c = s.temperature_c;
+    }
     c.zero_shift_pa = s.zero_shift_pa * instrument_random.normal();
     c.zero_drift_pa = s.zero_drift_pa * instrument_random.normal();
     c.tubing = std::make_unique<StreamingFir>(tubing_impulse_response(c.true_line, tube_air, fs_hz, fir_n), 0.0);
@@ -297,7 +302,8 @@ SynthSummary write_synthetic_run(const Scenario& s, const fs::path& directory, b
     row[0] = encoder.volts(alpha_deg + s.encoder_noise_deg * encoder_random.normal()) + encoder_noise.next(t);
     row[1] = pitot.volts(now.q_pa - pitot_zero) + pitot_noise.next(t);
     row[2] = barometer.volts(s.static_pressure_pa) + baro_noise.next(t);
-    row[3] = thermometer.volts(s.temperature_c + s.temperature_rise_k * t / total_s) + thermo_noise.next(t);
+    const double air_c = s.temperature_c + s.temperature_rise_k * t / total_s;
+    row[3] = thermometer.volts(air_c) + thermo_noise.next(t);
     if (piv.enabled()) row[4] = piv.trigger_volts(t, dt) + trigger_noise.next(t);
     for (int i = 0; i < n_taps; ++i) {
       TapChannel& c = taps[i];
@@ -308,7 +314,9 @@ SynthSummary write_synthetic_run(const Scenario& s, const fs::path& directory, b
         const double frac = c.time_offset_s * fs_hz;
         const double p = p_now[i] + frac * (p_next[i] - p_now[i]);
         const double zero = c.zero_shift_pa + c.zero_drift_pa * t / total_s;
-        v = c.calibration.volts(p - zero) + c.noise->next(t);
+        const ChannelCalibration& cal = c.calibration;
+        const double thermal = 1.0 + cal.temperature_coefficient_per_k * (air_c - cal.reference_temperature_c);
+        v = cal.volts((p - zero) * thermal) + c.noise->next(t);
       }
       row[first_tap_column + i] = v;
     }

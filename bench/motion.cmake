@@ -1,0 +1,1 @@
+stallscope_bench(bench_phase_average phase_average_bench.cpp)

@@ -60,7 +60,7 @@ MotionWindow motion_window(const Record& r, const MotionStage::Options& o) {
   MotionWindow w;
   w.last = r.t.size();
   const auto plateaus =
-      numerics::find_plateaus(r.t, r.alpha, o.plateau_tolerance_deg, o.plateau_min_duration_s, 0.0);
+      numerics::find_plateaus(r.t, r.alpha, o.plateau_tolerance_deg, o.plateau_min_duration_s, 0.0, false);
   if (plateaus.empty()) return w;
   const double t0 = r.t[0], t1 = r.t[r.t.size() - 1];
   const auto& head = plateaus.front();

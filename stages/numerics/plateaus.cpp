@@ -57,7 +57,7 @@ Plateau summarise(const Eigen::VectorXd& t, const Eigen::VectorXd& y, Eigen::Ind
 }  // namespace
 
 std::vector<Plateau> find_plateaus(const Eigen::VectorXd& t, const Eigen::VectorXd& y, double tolerance,
-                                   double min_duration, double settle) {
+                                   double min_duration, double settle, bool join_split) {
   const Eigen::Index n = y.size();
   if (n < 2 || t.size() != n) return {};
   const double dt = (t[n - 1] - t[0]) / static_cast<double>(n - 1);
@@ -89,7 +89,7 @@ std::vector<Plateau> find_plateaus(const Eigen::VectorXd& t, const Eigen::Vector
     Plateau p = summarise(t, clean, first, last, settle);
     // A short disturbance splits one plateau in two: join them again.
     // The disturbance itself stays out of the average.
-    if (!found.empty() && std::abs(found.back().level - p.level) <= tolerance &&
+    if (join_split && !found.empty() && std::abs(found.back().level - p.level) <= tolerance &&
         t[first] - found.back().t_end < min_duration) {
       Plateau& q = found.back();
       std::vector<double> v(clean.data() + q.begin, clean.data() + q.end);

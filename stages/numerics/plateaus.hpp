@@ -17,10 +17,11 @@ struct Plateau {
 // a tenth of min_duration about it is at most 2 tolerance, and the whole
 // stretch spans at most 2 tolerance (1st to 99th percentile). Two stretches at
 // the same level (within tolerance) split by a disturbance shorter than
-// min_duration are one plateau, the disturbance left out of its level.
+// min_duration are one plateau, the disturbance left out of its level (unless
+// join_split is false: finding where a model rests around a short motion).
 // Non-finite samples are never steady. t must be increasing.
 std::vector<Plateau> find_plateaus(const Eigen::VectorXd& t, const Eigen::VectorXd& y, double tolerance,
-                                   double min_duration, double settle = 0);
+                                   double min_duration, double settle = 0, bool join_split = true);
 
 struct RampFit {
   double t_start = 0, t_end = 0;          // where the fitted line meets the holds

@@ -344,6 +344,29 @@ TEST(MotionStage, LeavesTheRestAtBothEndsOutOfThePeriodicFit) {
   EXPECT_NEAR(h.store.get<Series>("motion/alpha_deg").values[100], a0 - a1, 0.01);
 }
 
+// A fast run: 6 cycles at 8 Hz take 0.75 s, shorter than the plateau test's
+// 1 s, between 1.5 s rests at the same angle. The rests must not be read as
+// one plateau with a short disturbance in it.
+TEST(MotionStage, FindsAMotionShorterThanAPlateauBetweenTwoRests) {
+  Harness h;
+  testing::put_conditions(h.store, 0.15, 25);
+  const double f = 8.0, a0 = 10, a1 = 8, rest = 1.5, motion = 6 / f;
+  const Eigen::VectorXd t = testing::time_base(0, 2000, 2 * rest + motion);
+  Eigen::VectorXd a(t.size());
+  for (Eigen::Index i = 0; i < t.size(); ++i) {
+    const double tau = t[i] - rest;
+    a[i] = tau < 0 || tau >= motion ? a0 - a1 : a0 - a1 * std::cos(2 * kPi * f * tau);
+  }
+  h.store.put("signals/time_s", Series{t, "s"});
+  h.store.put("signals/alpha_deg", Series{a, "deg"});
+  MotionStage stage;
+  h.run(stage);
+  ASSERT_EQ(h.store.get<Text>("run/motion").value, "sine");
+  const MotionFit m = MotionFit::from_store(h.store, "test");
+  EXPECT_NEAR(m.freq_hz, f, 1e-3);
+  EXPECT_EQ(m.cycles, 6);
+}
+
 TEST(MotionStage, FitsASlowSineWhoseEveryShortWindowLooksSteady) {
   Harness h;
   SineRun r;

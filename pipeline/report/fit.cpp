@@ -77,16 +77,28 @@ std::optional<Section> fit_section(const ArchiveView& a, PlotFolder& plots) {
              status = texts_of(*summary, "status");
   const auto t1 = numbers_of(*summary, "tau1_conv"), t2 = numbers_of(*summary, "tau2_conv"),
              rms = numbers_of(*summary, "rms_residual");
+  // With [uncertainty]: the instruments' share beside the cycles' spread (the
+  // per-cycle rows) and the interval of the mean (above).
+  const auto u1 = numbers_of(*summary, "tau1_conv_uncertainty"), u2 = numbers_of(*summary, "tau2_conv_uncertainty");
+  const bool measured = !u1.empty() && !u2.empty();
   std::string rows;
-  for (std::size_t i = 0; i < estimate.size(); ++i)
-    rows += fmt::format("<tr><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td></tr>\n", escape_html(estimate[i]),
-                        escape_html(kind[i]), status[i] == "fitted" ? format_number(t1[i], 4) : "\u2013",
-                        status[i] == "fitted" ? format_number(t2[i], 4) : "\u2013", format_number(rms[i], 3));
+  for (std::size_t i = 0; i < estimate.size(); ++i) {
+    const bool fitted = status[i] == "fitted";
+    rows += fmt::format("<tr><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td>", escape_html(estimate[i]),
+                        escape_html(kind[i]), fitted ? format_number(t1[i], 4) : "\u2013",
+                        fitted ? format_number(t2[i], 4) : "\u2013", format_number(rms[i], 3));
+    if (measured)
+      rows += fmt::format("<td>{}</td><td>{}</td>", fitted ? format_number(u1[i], 3) : "\u2013",
+                          fitted ? format_number(u2[i], 3) : "\u2013");
+    rows += "</tr>\n";
+  }
   s.html += figure_html("fit_loop.svg", "Measured, static and fitted Cn loops",
                         "Phase-averaged C<sub>n</sub> loop against \u03b1 with the static curve and the fitted "
                         "Goman\u2013Khrabrov loop (attached part with Theodorsen's lag).");
   s.html += "<table>\n<tr><th>estimate</th><th>kind</th><th>\u03c4\u2081 (c/U)</th><th>\u03c4\u2082 (c/U)</th>"
-            "<th>rms residual</th></tr>\n" + rows + "</table>\n";
+            "<th>rms residual</th>" +
+            std::string(measured ? "<th>\u03c4\u2081 measurement std</th><th>\u03c4\u2082 measurement std</th>" : "") +
+            "</tr>\n" + rows + "</table>\n";
   return s;
 }
 

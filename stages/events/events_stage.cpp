@@ -197,6 +197,9 @@ void EventsStage::configure(ConfigSection& s) {
             "convection_taps_x_over_c", "expected [first, last] x/c of the taps used, 0 <= first < last <= 1");
   o.te_x_over_c = s.number("te_x_over_c", o.te_x_over_c);
   s.require(o.te_x_over_c > 0 && o.te_x_over_c <= 1.5, "te_x_over_c", "expected an x/c greater than 0, at most 1.5");
+  o.convection_cutoff_strouhal = s.number("convection_cutoff_strouhal", o.convection_cutoff_strouhal);
+  s.require(o.convection_cutoff_strouhal >= 0.05 && o.convection_cutoff_strouhal <= 5, "convection_cutoff_strouhal",
+            "expected the convection taps' cut-off f c / U from 0.05 to 5");
   o.bootstrap_resamples = s.integer("bootstrap_resamples", o.bootstrap_resamples);
   s.require(o.bootstrap_resamples >= 100 && o.bootstrap_resamples <= 1000000, "bootstrap_resamples",
             "expected from 100 to 1000000 resamples");
@@ -412,7 +415,11 @@ void EventsStage::run(RunContext& context) {
     const auto& surface = taps.texts("surface");
     const auto& status = taps.texts("status");
     const auto& x = taps.numbers("x_over_c");
-    const events::ZeroPhaseLowpass cp_filter(cutoff, sample_rate(*cp_t, "pressure/time_s"));
+    const double cp_fs = sample_rate(*cp_t, "pressure/time_s");
+    const events::ZeroPhaseLowpass cp_filter(cutoff, cp_fs);
+    const double convection_cutoff =
+        std::min(std::max(cutoff, o.convection_cutoff_strouhal * speed / chord), 0.45 * cp_fs);
+    const events::ZeroPhaseLowpass convection_filter(convection_cutoff, cp_fs);
     std::vector<Eigen::Index> le_columns;
     std::vector<std::pair<double, Eigen::Index>> aft;
     for (std::size_t r = 0; r < names.size(); ++r) {
@@ -444,7 +451,7 @@ void EventsStage::run(RunContext& context) {
                 num(o.convection_taps_x_over_c[0]) + " to " + num(o.convection_taps_x_over_c[1]) + " (3 needed)";
     } else {
       for (const auto& [xc, col] : aft) {
-        tap_signals.push_back(filter_signal(cp_filter, cp.values.col(col), "pressure/cp"));
+        tap_signals.push_back(filter_signal(convection_filter, cp.values.col(col), "pressure/cp"));
         tap_x.push_back(xc);
       }
     }
@@ -559,6 +566,7 @@ void EventsStage::run(RunContext& context) {
       {"lowpass", std::string("2nd-order Butterworth run forward and backward (zero phase, -6 dB at the cut-off)")},
       {"lowpass_harmonics", o.lowpass_harmonics},
       {"lowpass_cutoff_hz", cutoff},
+      {"convection_cutoff_strouhal", o.convection_cutoff_strouhal},
       {"persistence_s", th.persistence_s},
       {"noise_cl", cl.noise},
       {"noise_cn", cn.noise},

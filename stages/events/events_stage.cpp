@@ -610,7 +610,9 @@ void EventsStage::run(RunContext& context) {
          {"spread", std::string("std and p05-p95: cycle-to-cycle spread of the quantity")},
          {"uncertainty_of_mean", std::string("ci95: Student-t 95 % interval of the mean; bootstrap95: percentile "
                                              "bootstrap 95 % interval of the mean")},
-         {"phase_deg", std::string("phase from the cycle start, unwrapped (may pass 360 in the next cycle)")},
+         {"phase_deg", std::string("phase from the cycle start, unwrapped (may pass 360 in the next cycle); "
+                                   "circular_mean, circular_std, resultant_length: circular statistics of the "
+                                   "phase (Mardia & Jupp), right where the phases straddle the cycle boundary")},
          {"flags", std::string("autocorrelated: |lag-1 r| > 1.96/sqrt(n); bimodal: Sarle's coefficient > 5/9 and "
                                "Ashman's D > 2; converged: the running mean over the last half of the cycles "
                                "stays inside the final 95 % interval; flags need n >= 10")},

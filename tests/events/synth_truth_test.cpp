@@ -23,6 +23,7 @@
 #include <sys/wait.h>
 #include <unistd.h>
 
+#include <algorithm>
 #include <cmath>
 #include <fstream>
 #include <map>
@@ -125,8 +126,8 @@ class SynthTruth : public ::testing::Test {
   static inline Events truth_, measured_;
 };
 
-// One test: the run is synthesised and reduced once (about 15 s on a busy machine).
-TEST_F(SynthTruth, EventsMatchTheTruthCycleByCycleAfterTheirMeasuredLag) {
+// One test, so the run is synthesised and reduced once (about 15 s on a busy machine).
+TEST_F(SynthTruth, EventsMatchTheTruthCycleByCycleAfterTheirMeasuredLagAndSummarise) {
   ASSERT_TRUE(reduced_);
   // Row by row: the same cycle numbering, every truth cycle present in the reduction.
   int cycles = 0;
@@ -153,6 +154,27 @@ TEST_F(SynthTruth, EventsMatchTheTruthCycleByCycleAfterTheirMeasuredLag) {
   // The taps' convection estimate against the true vortex.
   expect_within("vortex_te_passage", "taps_te_passage", 0.0, 0.5, 2.0 / 3.0);
   expect_within("convection_speed", "taps_convection_speed", 0.0, 0.06, 2.0 / 3.0, true);
+
+  // The summary carries circular statistics of the phases.
+  std::ifstream in(dir_ / "out/events_summary.csv");
+  std::string line;
+  std::getline(in, line);
+  const auto header = split_csv(line);
+  auto column = [&](const std::string& name) {
+    return static_cast<std::size_t>(std::find(header.begin(), header.end(), name) - header.begin());
+  };
+  const std::size_t mean = column("mean"), circular = column("circular_mean"), spread = column("circular_std");
+  ASSERT_LT(circular, header.size());
+  bool found = false;
+  while (std::getline(in, line)) {
+    const auto f = split_csv(line);
+    if (f[0] != "stall_onset" || f[1] != "phase_deg") continue;
+    found = true;
+    // Onset phases of this run lie near 140 deg, far from the boundary: both means agree.
+    EXPECT_NEAR(std::stod(f[circular]), std::stod(f[mean]), 0.5);
+    EXPECT_GT(std::stod(f[spread]), 0.0);
+  }
+  EXPECT_TRUE(found);
 }
 
 }  // namespace

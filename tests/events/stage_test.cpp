@@ -9,12 +9,14 @@
 #include <numbers>
 #include <random>
 
+#include "pipeline/archive.hpp"
 #include "pipeline/config.hpp"
 #include "pipeline/errors.hpp"
 #include "pipeline/run_context.hpp"
 #include "stages/events/cycle_events.hpp"
 #include "stages/events/events_stage.hpp"
 #include "stages/theory/theodorsen.hpp"
+#include "tests/support/test_support.hpp"
 
 namespace stallscope {
 namespace {
@@ -503,6 +505,59 @@ TEST(StaticPolar, FromTheStoreGivesTheStaticStallAngle) {
   EXPECT_DOUBLE_EQ(std::get<double>(e.attributes.at("lift_slope_per_rad")), 5.7);
   const auto x = h.rows("static_stall_crossing").find(0)->second;
   EXPECT_NEAR(x.alpha, 15.0, 1e-9);
+}
+
+TEST(StaticPolar, FromTheArchiveOfAReducedStaticRunNamedInTheConfig) {
+  // The static run's archive, as the archive writer leaves it: /static_polar/summary.
+  testing::ScratchDir dir;
+  RunStore static_run;
+  Table polar;
+  polar.add({"direction", "", std::vector<std::string>{"up", "down"}})
+      .add({"lift_slope_per_rad", "1/rad", std::vector<double>{5.9, 5.8}})
+      .add({"zero_lift_angle_deg", "deg", std::vector<double>{-0.2, -0.1}})
+      .add({"alpha_cl_max_deg", "deg", std::vector<double>{13.5, 11.0}})
+      .add({"alpha_cm_break_deg", "deg", std::vector<double>{14.5, 12.0}})
+      .add({"alpha_linearity_deg", "deg", std::vector<double>{10.5, 9.0}});
+  static_run.put("static_polar/summary", polar, {{"static_stall_angle_deg", 13.5}});
+  const auto archive = write_archive(static_run, Provenance{}, {dir.path(), "static_run", false});
+
+  Harness h;
+  SyntheticRun run;
+  run.taps = false;
+  run.put(h.store);
+  h.run("lowpass_harmonics = 20\nstatic_polar = \"" + archive.string() + "\"\nstatic_stall_criterion = \"linearity\"\n");
+  const Entry& e = h.store.entry("events/per_cycle");
+  EXPECT_DOUBLE_EQ(std::get<double>(e.attributes.at("static_stall_angle_deg")), 10.5);  // up sweep, linearity
+  EXPECT_DOUBLE_EQ(std::get<double>(e.attributes.at("lift_slope_per_rad")), 5.9);
+  EXPECT_DOUBLE_EQ(std::get<double>(e.attributes.at("zero_lift_angle_deg")), -0.2);
+  EXPECT_NE(std::get<std::string>(e.attributes.at("static_stall_source")).find("static_run.h5"), std::string::npos);
+  EXPECT_NEAR(h.rows("static_stall_crossing").find(0)->second.alpha, 10.5, 1e-9);
+  // The archive is a raw input of this reduction: hashed into provenance.
+  ASSERT_EQ(h.provenance.inputs.size(), 1u);
+  EXPECT_EQ(h.provenance.inputs[0].role, "static polar");
+  EXPECT_EQ(h.provenance.inputs[0].sha256.size(), 64u);
+
+  // The config's angle still wins over the archive's; the archive's lift slope is kept.
+  Harness g;
+  run.put(g.store);
+  g.run("lowpass_harmonics = 20\nstatic_stall_angle_deg = 12\nstatic_polar = \"" + archive.string() + "\"\n");
+  const Entry& f = g.store.entry("events/per_cycle");
+  EXPECT_DOUBLE_EQ(std::get<double>(f.attributes.at("static_stall_angle_deg")), 12.0);
+  EXPECT_DOUBLE_EQ(std::get<double>(f.attributes.at("lift_slope_per_rad")), 5.9);
+
+  // An archive without a static polar is bad input naming the key.
+  RunStore other;
+  other.put("run/name", Text{"dynamic"});
+  const auto wrong = write_archive(other, Provenance{}, {dir.path(), "dynamic_run", false});
+  Harness k;
+  run.put(k.store);
+  try {
+    k.run("lowpass_harmonics = 20\nstatic_polar = \"" + wrong.string() + "\"\n");
+    ADD_FAILURE() << "expected an InputError";
+  } catch (const InputError& err) {
+    EXPECT_NE(std::string(err.what()).find("static_polar"), std::string::npos) << err.what();
+    EXPECT_NE(std::string(err.what()).find("no /static_polar/summary"), std::string::npos) << err.what();
+  }
 }
 
 TEST(Ramp, IsOneCycleTimedFromTheStartOfTheRamp) {

@@ -310,6 +310,57 @@ TEST(MomentStall, HandBuiltLoopGivesTheExactBreakTime) {
   EXPECT_NEAR(x->t_s, (std::asin(0.4) + kPi / 2) / (2 * kPi), 1e-10);
 }
 
+TEST(Reattachment, HandBuiltPressuresGiveTheExactRecoveryTime) {
+  // alpha = 10 - 10 cos(2 pi t) over one 1 s cycle; static stall 14 deg, downstroke crossing at 0.6845 s.
+  // Leading-edge suction (0.5 + 0.4 alpha)(1 - d): d = 0.8 from 0.45 s, falling linearly to 0 over
+  // 0.70..0.80 s, so within 15 % of the upstroke's at 0.70 + 0.1 (1 - 0.15/0.8) = 0.78125 s. Aft-tap Cp
+  // 0.1 attached, -0.6 from 0.45 s, rising linearly over 0.72..0.82 s, within 0.05 of 0.1 at
+  // 0.72 + 0.1 (0.65/0.7) s: the later of the two is the reattachment. Traces unfiltered.
+  const double dt = 1e-3;
+  const Eigen::Index n = 1000;
+  Eigen::VectorXd t(n), cm(n), le(n), aft(n), flat = Eigen::VectorXd::Zero(n);
+  auto alpha = [](double x) { return 10 - 10 * std::cos(2 * kPi * x); };
+  for (Eigen::Index i = 0; i < n; ++i) {
+    const double x = t[i] = i * dt;
+    cm[i] = x < 0.4 ? 0.02 : 0.02 - 2 * (x - 0.4);
+    const double d = x < 0.45 ? 0 : x < 0.70 ? 0.8 : x < 0.80 ? 0.8 * (1 - (x - 0.70) / 0.1) : 0;
+    le[i] = (0.5 + 0.4 * alpha(x)) * (1 - d);
+    aft[i] = x < 0.45 ? 0.1 : x < 0.72 ? -0.6 : x < 0.82 ? -0.6 + 0.7 * (x - 0.72) / 0.1 : 0.1;
+  }
+  const events::Trace cm_trace{t, cm, 0.0}, zero{t, flat, 0.0}, le_trace{t, le, 0.0}, aft_trace{t, aft, 0.0};
+  events::CycleInputs in;
+  in.cl = in.cn = &zero;
+  in.cm = &cm_trace;
+  in.le_suction = &le_trace;
+  in.aft_cp = &aft_trace;
+  in.no_reference_reason = "no reference";
+  in.alpha_deg = alpha;
+  in.rate_deg_s = [](double x) { return 20 * kPi * std::sin(2 * kPi * x); };
+  in.static_stall_angle_deg = 14;
+  events::CycleWindow w{0, 0.0, 0.999, 0.999, 1.0, false};
+  events::Thresholds th;
+  th.reattachment_sustain_s = 0.05;
+  auto find = [](const std::vector<events::EventRow>& rows, const std::string& name) {
+    return *std::find_if(rows.begin(), rows.end(), [&](const auto& r) { return r.event == name; });
+  };
+  const auto rows = events::detect_cycle_events(in, w, th);
+  const auto p = find(rows, "reattachment_pressure");
+  ASSERT_EQ(p.status, "ok") << p.reason;
+  EXPECT_NEAR(p.t_s, 0.72 + 0.1 * 0.65 / 0.7, 1e-9);
+  EXPECT_NEAR(p.value, 0.05, 1e-9);  // the aft-tap Cp there
+  EXPECT_DOUBLE_EQ(find(rows, "reattachment").t_s, p.t_s);  // the default criterion
+  EXPECT_EQ(find(rows, "reattachment_loads").status, "missing");
+  // With the aft tap recovering first, the leading-edge suction decides.
+  for (Eigen::Index i = 0; i < n; ++i) aft[i] = t[i] < 0.45 ? 0.1 : t[i] < 0.72 ? -0.6 : 0.1;
+  // (to 1e-5 s: that deficit is (0.5 + 0.4 alpha)(d - 0.15), curved between samples.)
+  EXPECT_NEAR(find(events::detect_cycle_events(in, w, th), "reattachment_pressure").t_s, 0.78125, 1e-5);
+  // The loads criterion chosen: the reattachment row is the loads one (missing here, no reference).
+  th.reattachment_criterion = "loads";
+  const auto loads = find(events::detect_cycle_events(in, w, th), "reattachment");
+  EXPECT_EQ(loads.status, "missing");
+  EXPECT_NE(loads.reason.find("criterion loads: no reference"), std::string::npos) << loads.reason;
+}
+
 TEST(MomentStall, HandBuiltLoopThroughTheStageMatchesTheClosedForm) {
   // Cm = 0.02 - B sin^2(pi (t - tb) / (2 Td)) over Td, held, and recovering on the downstroke:
   // Cm = 0.02 - 0.05 at tb + (2 Td / pi) asin(sqrt(0.05 / B)). Noise-free, filtered at 20 x f.
@@ -369,7 +420,7 @@ TEST(SyntheticCycles, OnsetPeaksReattachmentAndConvectionAreRecovered) {
     worst_lift = std::max(worst_lift, std::abs(lift_err));
     EXPECT_LT(std::abs(lift_err), kPeakTolerance) << "cycle " << c;
 
-    const auto re = h.rows("reattachment").find(c)->second;
+    const auto re = h.rows("reattachment_loads").find(c)->second;
     ASSERT_EQ(re.status, "ok") << re.reason;
     const double re_err = (re.t - run.true_reattachment(c, 0.1, 2 * conv)) / conv;
     worst_reattach = std::max(worst_reattach, std::abs(re_err));
@@ -593,7 +644,7 @@ TEST(Ramp, IsOneCycleTimedFromTheStartOfTheRamp) {
   ASSERT_EQ(m.status, "ok") << m.reason;
   // Cm = -0.06 where the logistic reaches 1/6: t_break + 0.01 (4 - ln 5).
   EXPECT_NEAR(m.t, t_break + 0.01 * (4 - std::log(5.0)), 5e-4);
-  EXPECT_EQ(h.rows("reattachment").find(0)->second.reason, "a ramp has no downstroke");
+  EXPECT_EQ(h.rows("reattachment_loads").find(0)->second.reason, "a ramp has no downstroke");
 }
 
 TEST(Ramp, PeriodicRampAndHoldTakesItsAngleFromTheRampsTable) {
@@ -627,7 +678,7 @@ TEST(Ramp, PeriodicRampAndHoldTakesItsAngleFromTheRampsTable) {
     EXPECT_NEAR(r.t, run.t_start(static_cast<int>(c)) + 0.28 * period, 1e-9);
     EXPECT_NEAR(r.value, 20 / (0.4 * period), 1e-6);
   }
-  EXPECT_NE(h.rows("reattachment").find(0)->second.reason.find("ramp-and-hold"), std::string::npos);
+  EXPECT_NE(h.rows("reattachment_loads").find(0)->second.reason.find("ramp-and-hold"), std::string::npos);
 }
 
 // --- bad input --------------------------------------------------------------

@@ -722,7 +722,10 @@ TEST(BadInput, ThresholdsOutsideTheirSensibleRangeAreErrorsNamingTheKey) {
                                 "reattachment_tolerance = 0", "reattachment_sustain_conv = 100",
                                 "le_collapse_fraction = 1.5", "secondary_peak_prominence = 0",
                                 "static_stall_angle_deg = 95", "convection_taps_x_over_c = [0.8, 0.2]",
-                                "bootstrap_resamples = 5", "le_region_x_over_c = 0.6"}) {
+                                "bootstrap_resamples = 5", "le_region_x_over_c = 0.6",
+                                "reattachment_suction_fraction = 1.5", "reattachment_cp_tolerance = 0",
+                                "reattachment_aft_x_over_c = 0.2", "reattachment_criterion = \"static\"",
+                                "convection_cutoff_strouhal = 10"}) {
     EventsStage stage;
     ConfigFile f = ConfigFile::parse("[events]\n" + key + "\n", "run.toml");
     ConfigSection s(f, "events");

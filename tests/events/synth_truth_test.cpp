@@ -21,7 +21,6 @@
 // scatters by tens of c/U (vortex_detection vs release: +5 / 15; vortex_detachment
 // found in 14 of 36 cycles), a finding for the vortex stage.
 #include <gtest/gtest.h>
-#include <sys/wait.h>
 #include <unistd.h>
 
 #include <algorithm>
@@ -31,6 +30,7 @@
 #include <sstream>
 
 #include "pipeline/progress.hpp"
+#include "tests/support/test_support.hpp"
 #include "tools/synth/synth_run.hpp"
 
 namespace stallscope {
@@ -81,10 +81,9 @@ class SynthTruth : public ::testing::Test {
     const fs::path scenario = fs::path(STALLSCOPE_SOURCE_DIR) / "sample_data/kestrel_ridge/run1_scenario.toml";
     Progress quiet(Progress::Mode::kQuiet);
     synth::write_synthetic_run(synth::load_scenario(scenario), dir_ / "run", false, quiet);
-    const std::string command = std::string(STALLSCOPE_BINARY) + " reduce " + (dir_ / "run/reduce.toml").string() +
-                                " -o " + (dir_ / "out").string() + " --quiet > /dev/null 2>&1";
-    const int status = std::system(command.c_str());
-    reduced_ = WIFEXITED(status) && WEXITSTATUS(status) == 0;
+    reduced_ = testing::run_stallscope("reduce " + testing::shell_quote((dir_ / "run/reduce.toml").string()) +
+                                       " -o " + testing::shell_quote((dir_ / "out").string()) + " --quiet")
+                   .exit_code == 0;
     truth_ = read_events(dir_ / "run/truth_events.csv");
     measured_ = read_events(dir_ / "out/events_per_cycle.csv");
   }

@@ -1,7 +1,6 @@
 // The optional outputs of a synthetic run: PIV as text frames, measured tubing
 // lines, the truth rows of the criteria events, and the run config beside it.
 #include <gtest/gtest.h>
-#include <sys/wait.h>
 #include <unistd.h>
 
 #include <cmath>
@@ -17,6 +16,7 @@
 #include "stages/piv/frame_source.hpp"
 #include "stages/theory/goman_khrabrov.hpp"
 #include "tools/synth/synth_run.hpp"
+#include "tests/support/test_support.hpp"
 #include "tools/synth/truth_criteria.hpp"
 
 namespace stallscope::synth {
@@ -35,12 +35,7 @@ fs::path write_run(const std::string& name, const std::string& scenario_text) {
   return dir / "run";
 }
 
-std::string read_text(const fs::path& p) {
-  std::ifstream in(p);
-  std::stringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
+using testing::read_text;
 
 const std::string kPiv = "[scenario]\nseed = 11\n[motion]\ncycles = 2\n[piv]\nenabled = true\nnx = 20\nny = 12\n"
                          "rate_hz = 200\n";
@@ -78,7 +73,6 @@ TEST(SynthOutputs, MeasuredLinesScatterAboutTheTrueLinesBerghTijdemanResponse) {
   const calib::LinesFile lines = calib::read_lines_file(run / "lines.toml");
   ASSERT_TRUE(lines.lines.count("measured_p12"));
   ASSERT_TRUE(lines.lines.count("measured_p15"));
-  std::ifstream taps(run / "taps.csv");
   EXPECT_NE(read_text(run / "taps.csv").find(",measured_p15,"), std::string::npos);
   // The true line: the table's 0.35 m, 1 mm line, 10 % longer (the realistic preset's length error).
   const calib::AirProperties air(293.15, 101325.0);
@@ -150,11 +144,9 @@ TEST(SynthOutputs, TruthHoldsTheCriteriaEventsAndTheRunConfigReducesEveryStage) 
   EXPECT_DOUBLE_EQ(config["piv"]["pulse_separation_s"].value_or(0.0), 60e-6);
   EXPECT_EQ(config["piv"]["pivot_x_m"].value_or(1.0), 0.0);
   // It reduces end to end.
-  const std::string command = std::string(STALLSCOPE_BINARY) + " reduce " + (run / "reduce.toml").string() +
-                              " -o " + (run / "out").string() + " --quiet > /dev/null 2>&1";
-  const int status = std::system(command.c_str());
-  ASSERT_TRUE(WIFEXITED(status));
-  EXPECT_EQ(WEXITSTATUS(status), 0);
+  const auto reduced = testing::run_stallscope("reduce " + testing::shell_quote((run / "reduce.toml").string()) +
+                                               " -o " + testing::shell_quote((run / "out").string()) + " --quiet");
+  EXPECT_EQ(reduced.exit_code, 0) << reduced.err;
   EXPECT_TRUE(fs::exists(run / "out" / "events_per_cycle.csv"));
 }
 

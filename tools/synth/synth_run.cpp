@@ -251,6 +251,7 @@ SynthSummary write_synthetic_run(const Scenario& s, const fs::path& directory, b
 
   h5::Id truth_file = create_reproducible_file(staging / "truth.h5");
   const hid_t tf = truth_file.get();
+  piv.stream_truth(tf);
   struct Series {
     const char* name;
     const char* units;

@@ -39,7 +39,8 @@ const std::vector<std::string>& cycle_event_names() {
   static const std::vector<std::string> kNames = {
       "static_stall_crossing", "lift_peak",      "normal_force_peak",     "moment_stall",   "cm_min",
       "le_suction_collapse",   "stall_onset",    "stall_delay",           "stall_delay_s",  "stall_delay_deg",
-      "secondary_peak",        "reattachment",   "taps_convection_speed", "taps_te_passage"};
+      "secondary_peak",        "reattachment",   "reattachment_loads",    "reattachment_pressure",
+      "taps_convection_speed", "taps_te_passage"};
   return kNames;
 }
 
@@ -200,11 +201,75 @@ std::vector<EventRow> detect_cycle_events(const CycleInputs& in, const CycleWind
     }
   }
 
+  // Reattachment from the pressures: on the downstroke below the static stall angle, the leading-edge
+  // suction and the aft-tap pressure both back to their attached values, which this cycle's own
+  // upstroke gives at the same angle (before the static-stall crossing), for the sustain time.
+  Detection pressure;
+  if (w.ramp) {
+    pressure = Detection::missing("a ramp has no downstroke");
+  } else if (!in.le_suction || !in.aft_cp) {
+    pressure = Detection::missing(!in.le_suction ? in.no_le_reason : in.no_aft_reason);
+  } else if (!onset.found || !crossing.found) {
+    pressure = Detection::missing(!onset.found ? "no stall onset in this cycle" : crossing.reason);
+  } else {
+    const double t_down = motion_crossing(in.alpha_deg, t_top, w.t_end, a_ss, false);
+    const Trace& le_trace = *in.le_suction;
+    const Eigen::VectorXd& tp = le_trace.t;
+    // The upstroke's attached values against angle (the fitted angle rises monotonically there).
+    std::vector<double> up_alpha, up_suction, up_aft;
+    for (Eigen::Index j = index_at(tp, w.t_start); j < tp.size() && tp[j] < crossing.t_s; ++j) {
+      const double a = in.alpha_deg(tp[j]);
+      if (!up_alpha.empty() && a <= up_alpha.back()) continue;
+      up_alpha.push_back(a);
+      up_suction.push_back(le_trace.y[j]);
+      up_aft.push_back(in.aft_cp->y[j]);
+    }
+    if (!std::isfinite(t_down)) {
+      pressure = Detection::missing("the angle never fell below the static stall angle on the downstroke");
+    } else if (up_alpha.size() < 4) {
+      pressure = Detection::missing("too few upstroke samples below the static stall angle for an attached reference");
+    } else {
+      auto upstroke = [&](const std::vector<double>& y, double a) {
+        const auto it = std::lower_bound(up_alpha.begin(), up_alpha.end(), a);
+        if (it == up_alpha.begin()) return y.front();
+        if (it == up_alpha.end()) return y.back();
+        const std::size_t k = static_cast<std::size_t>(it - up_alpha.begin());
+        const double f = (a - up_alpha[k - 1]) / (up_alpha[k] - up_alpha[k - 1]);
+        return y[k - 1] + f * (y[k] - y[k - 1]);
+      };
+      // Not recovered while either deficit is positive; each is scaled by its own tolerance.
+      const double suction_scale = std::max(upstroke(up_suction, a_ss), 1e-6);
+      Eigen::VectorXd deficit = Eigen::VectorXd::Ones(tp.size());
+      const Eigen::Index j0 = index_at(tp, std::max(t_down, onset.t_s)), j1 = index_at(tp, w.search_end);
+      for (Eigen::Index j = j0; j < j1; ++j) {
+        const double a = in.alpha_deg(tp[j]);
+        const double le_deficit = ((1 - th.reattachment_suction_fraction) * upstroke(up_suction, a) - le_trace.y[j]) /
+                                  (th.reattachment_suction_fraction * suction_scale);
+        const double aft_deficit = (upstroke(up_aft, a) - th.reattachment_cp_tolerance - in.aft_cp->y[j]) /
+                                   th.reattachment_cp_tolerance;
+        deficit[j] = std::max(le_deficit, aft_deficit);
+      }
+      const double noise = std::hypot(le_trace.noise / (th.reattachment_suction_fraction * suction_scale),
+                                      in.aft_cp->noise / th.reattachment_cp_tolerance);
+      const Trace d{tp, deficit, noise};
+      pressure = first_sustained_drop(d, Eigen::VectorXd::Zero(tp.size()), j0, j1, th.reattachment_sustain_s);
+      if (pressure.found) {
+        pressure.value = value_at(*in.aft_cp, pressure.t_s);
+        pressure.reason = pressure.t_s > w.t_end ? "in the next cycle's time; value: aft-tap Cp" : "value: aft-tap Cp";
+      } else {
+        pressure.reason = "leading-edge suction within " + num(100 * th.reattachment_suction_fraction) +
+                          " % and aft-tap Cp within " + num(th.reattachment_cp_tolerance) +
+                          " of the upstroke's at the same angle: " + pressure.reason;
+      }
+    }
+  }
+  const Detection& chosen = th.reattachment_criterion == "pressure" ? pressure : reattach;
+
   // Secondary peaks of Cn after the normal-force peak, up to reattachment.
   if (!normal.found) {
     add("secondary_peak", Detection::missing("no normal-force peak in this cycle"));
   } else {
-    const double t_stop = reattach.found ? std::min(reattach.t_s, w.t_end) : w.t_end;
+    const double t_stop = chosen.found ? std::min(chosen.t_s, w.t_end) : w.t_end;
     const auto peaks = prominent_peaks(*in.cn, index_at(t, normal.t_s) + 1, index_at(t, t_stop),
                                        th.secondary_peak_prominence);
     if (peaks.empty())
@@ -212,7 +277,11 @@ std::vector<EventRow> detect_cycle_events(const CycleInputs& in, const CycleWind
                                                " after the normal-force peak"));
     for (const Detection& p : peaks) add("secondary_peak", p);
   }
-  add("reattachment", reattach);
+  Detection primary = chosen;
+  primary.reason = "criterion " + th.reattachment_criterion + (chosen.reason.empty() ? "" : ": " + chosen.reason);
+  add("reattachment", primary);
+  add("reattachment_loads", reattach);
+  add("reattachment_pressure", pressure);
 
   // Vortex convection from the taps: each tap's suction peak after onset.
   if (in.convection_taps.empty()) {

@@ -38,6 +38,8 @@ struct CycleInputs {
   std::string no_reference_reason;      // why there is no attached reference
   const Trace* le_suction = nullptr;    // -Cp at the leading-edge taps (suction positive); null: none
   std::string no_le_reason;
+  const Trace* aft_cp = nullptr;        // Cp at the aftmost working upper tap (on le_suction's time base); null: none
+  std::string no_aft_reason;
   std::vector<TapTrace> convection_taps;  // upper surface, aft of the leading edge, in x order
   std::string no_taps_reason;
   std::function<double(double)> alpha_deg, rate_deg_s;  // the fitted motion
@@ -61,6 +63,9 @@ struct Thresholds {
   double secondary_peak_prominence = 0.1;
   double reattachment_tolerance = 0.1;
   double reattachment_sustain_s = 0;
+  double reattachment_suction_fraction = 0.15;  // LE suction back within this fraction of the upstroke's
+  double reattachment_cp_tolerance = 0.05;      // aft-tap Cp back within this of the upstroke's
+  std::string reattachment_criterion = "pressure";  // pressure | loads: which one the reattachment row holds
   double te_x_over_c = 1.0;
 };
 

@@ -1,12 +1,31 @@
 #include "stages/events/event_summary.hpp"
 
+#include <algorithm>
 #include <cmath>
+#include <numbers>
 #include <set>
 
 namespace stallscope::events {
 
 namespace {
 constexpr const char* kPerRow = "per row: see the units column";
+}
+
+CircularSummary circular_summary(const std::vector<double>& degrees) {
+  CircularSummary out;
+  if (degrees.empty()) return out;
+  constexpr double kRad = std::numbers::pi / 180.0;
+  double c = 0, s = 0;
+  for (double d : degrees) c += std::cos(d * kRad), s += std::sin(d * kRad);
+  c /= static_cast<double>(degrees.size());
+  s /= static_cast<double>(degrees.size());
+  out.resultant_length = std::min(1.0, std::hypot(c, s));
+  out.std_deg = std::sqrt(-2 * std::log(out.resultant_length)) / kRad;
+  if (out.resultant_length > 1e-12) {
+    out.mean_deg = std::atan2(s, c) / kRad;
+    if (out.mean_deg < 0) out.mean_deg += 360;
+  }
+  return out;
 }
 
 Table per_cycle_table(const std::vector<EventRecord>& records) {
@@ -66,7 +85,7 @@ EventStatistics event_statistics(const std::vector<EventRecord>& records,
   std::vector<std::string> s_event, s_quantity, s_units;
   std::vector<std::int64_t> s_n, s_missing, s_autocorr, s_bimodal, s_converged;
   std::vector<double> s_mean, s_std, s_median, s_min, s_max, s_p05, s_p95, s_lo, s_hi, s_blo, s_bhi, s_lag1, s_bc,
-      s_d;
+      s_d, s_cmean, s_cstd, s_rlength;
   std::vector<std::string> r_event, r_quantity, r_units;
   std::vector<std::int64_t> r_n;
   std::vector<double> r_mean, r_half;
@@ -96,6 +115,10 @@ EventStatistics event_statistics(const std::vector<EventRecord>& records,
     s_d.push_back(s.ashman);
     s_bimodal.push_back(s.bimodal);
     s_converged.push_back(s.converged);
+    const CircularSummary circular = units == "deg" && quantity == "phase_deg" ? circular_summary(x) : CircularSummary{};
+    s_cmean.push_back(circular.mean_deg);
+    s_cstd.push_back(circular.std_deg);
+    s_rlength.push_back(circular.resultant_length);
     const numerics::RunningMean run = numerics::running_mean(x);
     for (std::size_t i = 0; i < x.size(); ++i) {
       r_event.push_back(event);
@@ -156,7 +179,10 @@ EventStatistics event_statistics(const std::vector<EventRecord>& records,
       .add({"bimodality_coefficient", "1", s_bc})
       .add({"ashman_d", "1", s_d})
       .add({"bimodal", "1", s_bimodal})
-      .add({"converged", "1", s_converged});
+      .add({"converged", "1", s_converged})
+      .add({"circular_mean", kPerRow, s_cmean})
+      .add({"circular_std", kPerRow, s_cstd})
+      .add({"resultant_length", "1", s_rlength});
   out.running_mean.add({"event", "", r_event})
       .add({"quantity", "", r_quantity})
       .add({"units", "", r_units})

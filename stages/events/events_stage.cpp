@@ -197,6 +197,19 @@ void EventsStage::configure(ConfigSection& s) {
             "convection_taps_x_over_c", "expected [first, last] x/c of the taps used, 0 <= first < last <= 1");
   o.te_x_over_c = s.number("te_x_over_c", o.te_x_over_c);
   s.require(o.te_x_over_c > 0 && o.te_x_over_c <= 1.5, "te_x_over_c", "expected an x/c greater than 0, at most 1.5");
+  o.reattachment_criterion = s.choice("reattachment_criterion", {"loads", "pressure"}, o.reattachment_criterion);
+  o.reattachment_suction_fraction = s.number("reattachment_suction_fraction", o.reattachment_suction_fraction);
+  s.require(o.reattachment_suction_fraction > 0 && o.reattachment_suction_fraction < 1,
+            "reattachment_suction_fraction", "expected a fraction of the upstroke's suction, between 0 and 1");
+  o.reattachment_cp_tolerance = s.number("reattachment_cp_tolerance", o.reattachment_cp_tolerance);
+  s.require(o.reattachment_cp_tolerance > 0 && o.reattachment_cp_tolerance <= 1, "reattachment_cp_tolerance",
+            "expected a tolerance in Cp greater than 0 and at most 1");
+  o.reattachment_aft_x_over_c = s.number("reattachment_aft_x_over_c", o.reattachment_aft_x_over_c);
+  s.require(o.reattachment_aft_x_over_c >= 0.5 && o.reattachment_aft_x_over_c < 1, "reattachment_aft_x_over_c",
+            "expected a chordwise position x/c from 0.5 to 1");
+  o.convection_cutoff_strouhal = s.number("convection_cutoff_strouhal", o.convection_cutoff_strouhal);
+  s.require(o.convection_cutoff_strouhal >= 0.05 && o.convection_cutoff_strouhal <= 5, "convection_cutoff_strouhal",
+            "expected the convection taps' cut-off f c / U from 0.05 to 5");
   o.bootstrap_resamples = s.integer("bootstrap_resamples", o.bootstrap_resamples);
   s.require(o.bootstrap_resamples >= 100 && o.bootstrap_resamples <= 1000000, "bootstrap_resamples",
             "expected from 100 to 1000000 resamples");
@@ -398,8 +411,9 @@ void EventsStage::run(RunContext& context) {
   const events::Trace deviation_trace{t, deviation, cl.noise};
 
   // Pressure taps: leading-edge suction and the chordwise suction peaks.
-  Eigen::VectorXd le_suction;
-  double le_noise = 0;
+  Eigen::VectorXd le_suction, aft_cp;
+  double le_noise = 0, aft_noise = 0;
+  std::string no_aft = "no pressure taps in this run";
   std::vector<Filtered> tap_signals;
   std::vector<double> tap_x;
   std::string no_le = "no pressure taps in this run", no_taps = no_le;
@@ -412,9 +426,14 @@ void EventsStage::run(RunContext& context) {
     const auto& surface = taps.texts("surface");
     const auto& status = taps.texts("status");
     const auto& x = taps.numbers("x_over_c");
-    const events::ZeroPhaseLowpass cp_filter(cutoff, sample_rate(*cp_t, "pressure/time_s"));
+    const double cp_fs = sample_rate(*cp_t, "pressure/time_s");
+    const events::ZeroPhaseLowpass cp_filter(cutoff, cp_fs);
+    const double convection_cutoff =
+        std::min(std::max(cutoff, o.convection_cutoff_strouhal * speed / chord), 0.45 * cp_fs);
+    const events::ZeroPhaseLowpass convection_filter(convection_cutoff, cp_fs);
     std::vector<Eigen::Index> le_columns;
     std::vector<std::pair<double, Eigen::Index>> aft;
+    std::pair<double, Eigen::Index> aftmost{-1.0, -1};
     for (std::size_t r = 0; r < names.size(); ++r) {
       if (surface[r] != "upper" || status[r] != "ok") continue;
       const auto it = std::find(cp.columns.begin(), cp.columns.end(), names[r]);
@@ -422,6 +441,7 @@ void EventsStage::run(RunContext& context) {
       const auto col = static_cast<Eigen::Index>(it - cp.columns.begin());
       if (x[r] <= o.le_region_x_over_c) le_columns.push_back(col);
       if (x[r] >= o.convection_taps_x_over_c[0] && x[r] <= o.convection_taps_x_over_c[1]) aft.emplace_back(x[r], col);
+      if (x[r] >= o.reattachment_aft_x_over_c && x[r] > aftmost.first) aftmost = {x[r], col};
     }
     if (le_columns.empty()) {
       no_le = "no working upper-surface tap at x/c <= " + num(o.le_region_x_over_c) + " (le_region_x_over_c)";
@@ -438,19 +458,28 @@ void EventsStage::run(RunContext& context) {
       le_suction = std::move(f.y);
       le_noise = f.noise;
     }
+    if (aftmost.second < 0) {
+      no_aft = "no working upper-surface tap at x/c >= " + num(o.reattachment_aft_x_over_c) +
+               " (reattachment_aft_x_over_c)";
+    } else {
+      Filtered f = filter_signal(cp_filter, cp.values.col(aftmost.second), "pressure/cp");
+      aft_cp = std::move(f.y);
+      aft_noise = f.noise;
+    }
     std::sort(aft.begin(), aft.end());
     if (aft.size() < 3) {
       no_taps = "only " + std::to_string(aft.size()) + " working upper-surface taps in x/c " +
                 num(o.convection_taps_x_over_c[0]) + " to " + num(o.convection_taps_x_over_c[1]) + " (3 needed)";
     } else {
       for (const auto& [xc, col] : aft) {
-        tap_signals.push_back(filter_signal(cp_filter, cp.values.col(col), "pressure/cp"));
+        tap_signals.push_back(filter_signal(convection_filter, cp.values.col(col), "pressure/cp"));
         tap_x.push_back(xc);
       }
     }
   }
   const Eigen::VectorXd empty;
   const events::Trace le_trace{cp_t ? *cp_t : empty, le_suction, le_noise};
+  const events::Trace aft_trace{cp_t ? *cp_t : empty, aft_cp, aft_noise};
 
   events::CycleInputs in;
   in.cl = &cl_trace;
@@ -461,6 +490,8 @@ void EventsStage::run(RunContext& context) {
                            "needs a sinusoidal pitch)";
   in.le_suction = le_suction.size() ? &le_trace : nullptr;
   in.no_le_reason = no_le;
+  in.aft_cp = aft_cp.size() ? &aft_trace : nullptr;
+  in.no_aft_reason = no_aft;
   for (std::size_t j = 0; j < tap_signals.size(); ++j)
     in.convection_taps.push_back({tap_x[j], events::Trace{*cp_t, tap_signals[j].y, tap_signals[j].noise}});
   in.no_taps_reason = no_taps;
@@ -477,6 +508,9 @@ void EventsStage::run(RunContext& context) {
   th.reattachment_tolerance = o.reattachment_tolerance;
   th.reattachment_sustain_s = o.reattachment_sustain_conv * chord / speed;
   th.te_x_over_c = o.te_x_over_c;
+  th.reattachment_suction_fraction = o.reattachment_suction_fraction;
+  th.reattachment_cp_tolerance = o.reattachment_cp_tolerance;
+  th.reattachment_criterion = o.reattachment_criterion;
 
   // Per cycle.
   std::map<std::int64_t, const Span*> by_cycle;
@@ -541,13 +575,15 @@ void EventsStage::run(RunContext& context) {
       {"moment_stall", "1"},              {"cm_min", "1"},          {"le_suction_collapse", "1"},
       {"stall_onset", "1"},               {"stall_delay", "1"},     {"stall_delay_s", "s"},
       {"stall_delay_deg", "deg"},         {"secondary_peak", "1"},  {"reattachment", "1"},
+      {"reattachment_loads", "1"},        {"reattachment_pressure", "1"},
       {"taps_convection_speed", "1"},     {"taps_te_passage", "1"}, {"vortex_detection", "1"},
       {"vortex_detachment", "1"},         {"vortex_te_passage", "1"}, {"convection_speed", "1"}};
   const std::string value_meaning =
       "static_stall_crossing: pitch rate at the crossing (deg/s); lift_peak, normal_force_peak: Cl, Cn at the peak; "
       "moment_stall: the running maximum of Cm the drop is measured from; cm_min: Cm; le_suction_collapse: Cp at "
       "the suction peak; stall_onset: the value of its criterion's event; stall_delay: convective times; "
-      "stall_delay_s: s; stall_delay_deg: deg of alpha; secondary_peak: Cn; reattachment: Cl; "
+      "stall_delay_s: s; stall_delay_deg: deg of alpha; secondary_peak: Cn; reattachment: as its criterion; "
+      "reattachment_loads: Cl; reattachment_pressure: aft-tap Cp; "
       "taps_convection_speed: speed / U_inf; taps_te_passage: x/c of the aftmost tap used; vortex events: as in "
       "vortex/events_per_cycle";
   Attributes per_cycle_attrs{
@@ -559,6 +595,7 @@ void EventsStage::run(RunContext& context) {
       {"lowpass", std::string("2nd-order Butterworth run forward and backward (zero phase, -6 dB at the cut-off)")},
       {"lowpass_harmonics", o.lowpass_harmonics},
       {"lowpass_cutoff_hz", cutoff},
+      {"convection_cutoff_strouhal", o.convection_cutoff_strouhal},
       {"persistence_s", th.persistence_s},
       {"noise_cl", cl.noise},
       {"noise_cn", cn.noise},
@@ -570,8 +607,16 @@ void EventsStage::run(RunContext& context) {
       {"lift_slope_source", ref.slope_source},
       {"onset_criterion", o.onset_criterion},
       {"moment_stall_delta", o.moment_stall_delta},
-      {"reattachment", std::string("Cl within reattachment_tolerance of the attached-flow reference (Theodorsen, "
-                                   "static lift slope) for reattachment_sustain_conv, below the static stall angle")},
+      {"reattachment", std::string("criterion " + o.reattachment_criterion)},
+      {"reattachment_loads", std::string("Cl within reattachment_tolerance of the attached-flow reference "
+                                         "(Theodorsen, static lift slope) for reattachment_sustain_conv, below the "
+                                         "static stall angle")},
+      {"reattachment_pressure", std::string("leading-edge suction within reattachment_suction_fraction and aft-tap "
+                                            "Cp within reattachment_cp_tolerance of the cycle's upstroke values at "
+                                            "the same angle, for reattachment_sustain_conv, below the static stall "
+                                            "angle")},
+      {"reattachment_suction_fraction", o.reattachment_suction_fraction},
+      {"reattachment_cp_tolerance", o.reattachment_cp_tolerance},
       {"reattachment_tolerance", o.reattachment_tolerance},
       {"reattachment_sustain_s", th.reattachment_sustain_s},
       {"vortex_rows", vortex_rows},
@@ -602,7 +647,9 @@ void EventsStage::run(RunContext& context) {
          {"spread", std::string("std and p05-p95: cycle-to-cycle spread of the quantity")},
          {"uncertainty_of_mean", std::string("ci95: Student-t 95 % interval of the mean; bootstrap95: percentile "
                                              "bootstrap 95 % interval of the mean")},
-         {"phase_deg", std::string("phase from the cycle start, unwrapped (may pass 360 in the next cycle)")},
+         {"phase_deg", std::string("phase from the cycle start, unwrapped (may pass 360 in the next cycle); "
+                                   "circular_mean, circular_std, resultant_length: circular statistics of the "
+                                   "phase (Mardia & Jupp), right where the phases straddle the cycle boundary")},
          {"flags", std::string("autocorrelated: |lag-1 r| > 1.96/sqrt(n); bimodal: Sarle's coefficient > 5/9 and "
                                "Ashman's D > 2; converged: the running mean over the last half of the cycles "
                                "stays inside the final 95 % interval; flags need n >= 10")},

@@ -17,11 +17,19 @@
 //   stall_delay            onset minus static-stall crossing (value: convective times), with
 //   stall_delay_s, stall_delay_deg  the same delay in seconds and degrees of alpha
 //   secondary_peak         later Cn peaks after the normal-force peak (value: Cn; several per cycle)
-//   reattachment           on the downstroke below the static stall angle, Cl back within
+//   reattachment           the criterion reattachment_criterion names (default pressure: on synthetic
+//                          runs its lag scatters 0.04 c/U against 0.21 for loads), one of:
+//   reattachment_loads     on the downstroke below the static stall angle, Cl back within
 //                          reattachment_tolerance of the attached-flow reference (Theodorsen with the
 //                          static lift slope) for reattachment_sustain_conv; may run into the next cycle
-//   taps_convection_speed  suction-peak chordwise position against time on the upper taps, fitted by a
-//                          line (value: speed / U); taps_te_passage: that line at te_x_over_c
+//   reattachment_pressure  the same window, the leading-edge suction back within
+//                          reattachment_suction_fraction and the aftmost upper tap's Cp within
+//                          reattachment_cp_tolerance of this cycle's upstroke values at the same angle
+//                          (value: that Cp)
+//   taps_convection_speed  suction-peak chordwise position against time on the upper taps (filtered
+//                          at convection_cutoff_strouhal U / c, not at the loads' cut-off, which smears
+//                          the bump out), fitted by a line (value: speed / U); taps_te_passage: that line
+//                          at te_x_over_c
 // plus the rows of vortex/events_per_cycle when the PIV path ran. An event not
 // found is recorded as missing with the reason. A ramp is one "cycle" from the
 // start of the ramp. Statistics over valid cycles go to events/summary and
@@ -58,7 +66,14 @@ class EventsStage final : public Stage {
     double reattachment_tolerance = 0.1;     // in Cl
     double reattachment_sustain_conv = 2.0;  // convective times
     double reattachment_search_periods = 0.5;  // how far into the next cycle
+    std::string reattachment_criterion = "pressure";  // pressure | loads: which one the reattachment row holds
+    double reattachment_suction_fraction = 0.15;   // pressure: LE suction within this of the upstroke's
+    double reattachment_cp_tolerance = 0.05;       // pressure: aft-tap Cp within this of the upstroke's
+    double reattachment_aft_x_over_c = 0.8;        // pressure: the aftmost working upper tap at or aft of this
     std::vector<double> convection_taps_x_over_c = {0.2, 0.9};
+    // The suction bump crosses a tap in about a convective time, far faster than the pitch
+    // period, so the convection taps get their own cut-off, in convective terms f c / U.
+    double convection_cutoff_strouhal = 2.0;  // measured on synthetic runs: 0.5 biases the speed by -0.25 U
     double te_x_over_c = 1.0;
     std::int64_t bootstrap_resamples = 2000;
     std::int64_t bootstrap_seed = 1;

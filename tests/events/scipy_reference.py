@@ -2,6 +2,7 @@
 
 usage: scipy_reference.py stats FILE         one number per line in FILE
        scipy_reference.py filtfilt FILE FC FS
+       scipy_reference.py circ FILE         angles in degrees, one a line
 Prints one "name value" pair per line (filtfilt: one filtered value per line).
 """
 import sys
@@ -28,6 +29,9 @@ def main():
         print("skew %.17g" % stats.skew(x, bias=False))
         print("kurtosis %.17g" % stats.kurtosis(x, bias=False))
         print("t975 %.17g" % stats.t.ppf(0.975, n - 1))
+    elif mode == "circ":
+        print("mean %.17g" % stats.circmean(x, high=360, low=0))
+        print("std %.17g" % stats.circstd(x, high=360, low=0))
     elif mode == "filtfilt":
         fc, fs = float(sys.argv[3]), float(sys.argv[4])
         b, a = signal.butter(2, fc / (0.5 * fs))

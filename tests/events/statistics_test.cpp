@@ -6,9 +6,11 @@
 
 #include <cmath>
 #include <map>
+#include <numbers>
 #include <random>
 #include <sstream>
 
+#include "stages/events/event_summary.hpp"
 #include "stages/numerics/distribution.hpp"
 #include "stages/numerics/statistics.hpp"
 #include "tests/support/test_support.hpp"
@@ -84,6 +86,44 @@ TEST(StudentT, IntervalAndSpreadAgreeWithScipyStats) {
     EXPECT_NEAR(skewness(x), ref.at("skew"), kScipyTolerance);
     EXPECT_NEAR(excess_kurtosis(x), ref.at("kurtosis"), kScipyTolerance);
     EXPECT_NEAR(student_t_quantile(0.975, n - 1), ref.at("t975"), kQuantileTolerance);
+  }
+}
+
+TEST(CircularStatistics, PhasesAcrossTheCycleBoundaryAverageToTheBoundary) {
+  // 330 and 10 deg: mean direction 350, R = cos 20 deg, circular std sqrt(-2 ln R) (Mardia & Jupp 2000).
+  const events::CircularSummary c = events::circular_summary({330, 10});
+  EXPECT_NEAR(c.mean_deg, 350, 1e-12);
+  EXPECT_NEAR(c.resultant_length, std::cos(20 * std::numbers::pi / 180), 1e-15);
+  EXPECT_NEAR(c.std_deg, std::sqrt(-2 * std::log(std::cos(20 * std::numbers::pi / 180))) * 180 / std::numbers::pi,
+              1e-12);
+  // Opposite directions have no mean direction; one angle has no spread.
+  EXPECT_TRUE(std::isnan(events::circular_summary({0, 180}).mean_deg));
+  EXPECT_NEAR(events::circular_summary({42}).std_deg, 0, 1e-6);
+  EXPECT_TRUE(std::isnan(events::circular_summary({}).mean_deg));
+}
+
+TEST(CircularStatistics, MeanDirectionAndSpreadAgreeWithScipyStats) {
+  // scipy.stats.circmean / circstd (high = 360, low = 0) through /usr/bin/python3.
+  std::mt19937 gen(5);
+  std::normal_distribution<double> phase(355, 25);
+  for (int n : {6, 30}) {
+    std::vector<double> x(static_cast<std::size_t>(n));
+    for (double& v : x) v = std::fmod(phase(gen) + 720, 360);
+    testing::ScratchDir dir;
+    std::ostringstream text;
+    text.precision(17);
+    for (double v : x) text << v << "\n";
+    const auto r = testing::run_python(testing::kSourceDir / "tests/events/scipy_reference.py",
+                                       "circ " + dir.write("x.txt", text.str()).string());
+    ASSERT_EQ(r.exit_code, 0) << r.err;
+    std::istringstream in(r.out);
+    std::map<std::string, double> ref;
+    std::string name;
+    double v;
+    while (in >> name >> v) ref[name] = v;
+    const events::CircularSummary c = events::circular_summary(x);
+    EXPECT_NEAR(c.mean_deg, ref.at("mean"), 1e-9) << n;
+    EXPECT_NEAR(c.std_deg, ref.at("std"), 1e-9) << n;
   }
 }
 

@@ -103,7 +103,7 @@ TEST(SynthRun, TheSameSeedGivesByteIdenticalFiles) {
     EXPECT_EQ(sha256_file(a / name), sha256_file(b / name)) << name;
     ++compared;
   }
-  EXPECT_EQ(compared, 12);  // 4 calibrations, daq, lines, piv, reduce, scenario, taps, truth, events
+  EXPECT_EQ(compared, 13);  // 4 calibrations, daq, lines, measured line, piv, reduce, scenario, taps, truth, events
   const fs::path c = write_run("det_c", "[scenario]\nseed = 6\n[motion]\ncycles = 2\n[piv]\nenabled = true\nnx = 20\n"
                                         "ny = 12\nrate_hz = 200\n");
   EXPECT_NE(sha256_file(a / "daq.h5"), sha256_file(c / "daq.h5"));

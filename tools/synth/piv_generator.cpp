@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <iterator>
 #include <numbers>
 
 #include "stages/theory/lamb_oseen.hpp"
@@ -174,10 +175,13 @@ void PivGenerator::render(const FlowSample& s, double t) {
   const PivScenario& p = scenario_.piv;
   const theory::Naca4Section section = theory::parse_naca4(scenario_.airfoil.substr(5));
   const auto vortices = field_vortices(s, t);
-  for (const auto& f : vortices) {
-    truth_vortices_.push_back(f);
-    truth_vortex_frame_.push_back(frames_written_);
-  }
+  if (!truth_vortex_.empty())
+    for (const auto& f : vortices) {
+      const std::int64_t ints[] = {frames_written_, f.kind, f.track};
+      const double reals[] = {f.x_m, f.y_m, f.circulation, f.core_radius_m};
+      for (int j = 0; j < 3; ++j) truth_vortex_[j].append(&ints[j], 1);
+      for (int j = 0; j < 4; ++j) truth_vortex_[3 + j].append(&reals[j], 1);
+    }
   const double alpha = s.alpha + s.alpha_rate * (t - s.t);
   const double scale = p.units == "px/frame" ? p.pixels_per_m * p.pair_dt_s : 1.0;
   const std::size_t cells = static_cast<std::size_t>(p.nx) * p.ny;
@@ -229,6 +233,17 @@ void PivGenerator::render(const FlowSample& s, double t) {
   ++frames_written_;
 }
 
+void PivGenerator::stream_truth(hid_t truth_file) {
+  if (!enabled()) return;
+  const std::pair<const char*, const char*> columns[] = {{"frame", "1"}, {"kind", "1"}, {"track", "1"},
+                                                         {"x_m", "m"},   {"y_m", "m"},  {"circulation", "m^2/s"},
+                                                         {"core_radius_m", "m"}};
+  for (std::size_t j = 0; j < std::size(columns); ++j)
+    truth_vortex_.emplace_back(truth_file, std::string("truth/piv/vortex/") + columns[j].first,
+                               j < 3 ? ElementType::kInt64 : ElementType::kFloat64, std::vector<hsize_t>{}, 4096,
+                               columns[j].second);
+}
+
 void PivGenerator::finish(hid_t truth_file) {
   if (!enabled()) return;
   // Frames whose trigger the DAQ record never reached (none in practice) are left out.
@@ -253,24 +268,8 @@ void PivGenerator::finish(hid_t truth_file) {
   h5::write_attribute(truth_file, "truth/piv", "clock_offset_s", scenario_.piv.clock_offset_s);
   h5::write_attribute(truth_file, "truth/piv", "stack_index_note",
                       std::string("frame index in piv.h5 for each trigger; -1 where the frame was dropped"));
-  const std::size_t m = truth_vortices_.size();
-  std::vector<std::int64_t> frame(truth_vortex_frame_), kind(m), track(m);
-  std::vector<double> x(m), y(m), gamma(m), core(m);
-  for (std::size_t i = 0; i < m; ++i) {
-    kind[i] = truth_vortices_[i].kind;
-    track[i] = truth_vortices_[i].track;
-    x[i] = truth_vortices_[i].x_m;
-    y[i] = truth_vortices_[i].y_m;
-    gamma[i] = truth_vortices_[i].circulation;
-    core[i] = truth_vortices_[i].core_radius_m;
-  }
-  write_dataset(truth_file, "truth/piv/vortex/frame", frame, "1");
-  write_dataset(truth_file, "truth/piv/vortex/kind", kind, "1");
-  write_dataset(truth_file, "truth/piv/vortex/track", track, "1");
-  write_dataset(truth_file, "truth/piv/vortex/x_m", x, {m}, "m");
-  write_dataset(truth_file, "truth/piv/vortex/y_m", y, {m}, "m");
-  write_dataset(truth_file, "truth/piv/vortex/circulation", gamma, {m}, "m^2/s");
-  write_dataset(truth_file, "truth/piv/vortex/core_radius_m", core, {m}, "m");
+  for (auto& d : truth_vortex_) d.flush();
+  truth_vortex_.clear();
   h5::write_attribute(truth_file, "truth/piv/vortex", "kind_note",
                       std::string("1 dynamic-stall vortex, 2 its secondary, 3 wall secondary, 4 trailing-edge "
                                   "vortex, 5 Kelvin-Helmholtz blob, 6 bound circulation"));

@@ -35,7 +35,10 @@ class PivGenerator {
   double trigger_volts(double t, double dt);
   // Renders every frame whose trigger falls in [s.t, s.t + dt).
   void observe(const FlowSample& s, double dt);
-  // Closes the stack and writes the PIV truth into the truth file.
+  // Streams the true vortices of each frame into truth/piv/vortex/* of the open truth file as
+  // frames are rendered, so memory does not grow with the frames (call before the first frame).
+  void stream_truth(hid_t truth_file);
+  // Closes the stack and writes the rest of the PIV truth into the truth file.
   void finish(hid_t truth_file);
   std::int64_t frames_written() const { return frames_written_; }
 
@@ -55,8 +58,7 @@ class PivGenerator {
   std::vector<double> x_m_, y_m_;
   h5::Id file_;
   std::unique_ptr<AppendableDataset> u_, v_, valid_, time_;
-  std::vector<FieldVortex> truth_vortices_;
-  std::vector<std::int64_t> truth_vortex_frame_;
+  std::vector<AppendableDataset> truth_vortex_;  // frame, kind, track, x_m, y_m, circulation, core_radius_m
   std::vector<std::int64_t> stack_index_;
   std::int64_t frames_written_ = 0;
   Random random_;

@@ -55,6 +55,15 @@ void read_nuisances(ConfigSection& noise, ConfigSection& scanner, ConfigSection&
   s.stepped_fraction = lines.number("stepped_fraction", s.stepped_fraction);
   lines.require(s.stepped_fraction > 0 && s.stepped_fraction < 1, "stepped_fraction",
                 "expected the first segment's share of the length, between 0 and 1");
+  s.measured_taps = lines.texts("measured_taps", clean ? std::vector<std::string>{} : s.measured_taps);
+  s.measured_step_hz = lines.number("measured_step_hz", s.measured_step_hz);
+  lines.require(s.measured_step_hz > 0, "measured_step_hz", "expected a frequency step in Hz, > 0");
+  s.measured_gain_scatter = lines.number("measured_gain_scatter", off(s.measured_gain_scatter));
+  lines.require(s.measured_gain_scatter >= 0 && s.measured_gain_scatter < 0.5, "measured_gain_scatter",
+                "expected an rms relative gain error in [0, 0.5)");
+  s.measured_phase_scatter_deg = lines.number("measured_phase_scatter_deg", off(s.measured_phase_scatter_deg));
+  lines.require(s.measured_phase_scatter_deg >= 0 && s.measured_phase_scatter_deg < 30, "measured_phase_scatter_deg",
+                "expected an rms phase error in degrees, in [0, 30)");
 
   s.dead_tap = dead.text("tap", clean ? std::string() : s.dead_tap);
   s.dead_tap_listed = dead.boolean("listed", s.dead_tap_listed);
@@ -242,6 +251,14 @@ Scenario read_scenario(const ConfigFile& file) {
   for (const auto& t : s.stepped_taps)
     lines.require(is_tap_name(t, taps_total), "stepped_taps",
                   "expected tap names p01..p" + std::to_string(taps_total) + ", found '" + t + "'");
+  if (!lines.has("measured_taps"))  // the default tap only where the section has that many taps
+    std::erase_if(s.measured_taps, [&](const std::string& t) { return !is_tap_name(t, taps_total); });
+  for (const auto& t : s.measured_taps) {
+    lines.require(is_tap_name(t, taps_total), "measured_taps",
+                  "expected tap names p01..p" + std::to_string(taps_total) + ", found '" + t + "'");
+    lines.require(std::find(s.stepped_taps.begin(), s.stepped_taps.end(), t) == s.stepped_taps.end(),
+                  "measured_taps", "tap '" + t + "' is already on a stepped line (stepped_taps)");
+  }
   if (!s.dead_tap.empty())
     dead.require(is_tap_name(s.dead_tap, taps_total), "tap",
                  "expected a tap name p01..p" + std::to_string(taps_total) + " or \"\" for none");
@@ -275,6 +292,7 @@ Scenario read_scenario(const ConfigFile& file) {
   piv.require(p.y_range_over_c.size() == 2 && p.y_range_over_c[0] < p.y_range_over_c[1], "y_range_over_c",
               "expected [lowest, highest] y in chords from the pitch axis");
   p.units = piv.choice("units", {"m/s", "px/frame"}, p.units);
+  p.text_frames = piv.choice("format", {"hdf5", "text"}, "hdf5") == "text";
   p.pixels_per_m = piv.number("pixels_per_m", p.pixels_per_m);
   piv.require(p.pixels_per_m > 0, "pixels_per_m", "expected a scale > 0");
   p.pair_dt_s = piv.number("pair_dt_s", p.pair_dt_s);

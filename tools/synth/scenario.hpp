@@ -30,6 +30,7 @@ struct PivScenario {
   std::vector<double> x_range_over_c = {-0.35, 1.15};  // lab frame, chords from the pitch axis
   std::vector<double> y_range_over_c = {-0.10, 0.55};
   std::string units = "m/s";                    // or "px/frame"
+  bool text_frames = false;                     // format = "hdf5" (piv.h5) | "text" (piv/ folder, index.csv)
   double pixels_per_m = 4000.0;                 // for px/frame
   double pair_dt_s = 60e-6;                     // laser pulse separation, for px/frame
   double trigger_pulse_s = 1e-3;                // TTL width recorded in cam_trigger (at least one sample)
@@ -138,6 +139,13 @@ struct Scenario {
   std::vector<std::string> stepped_taps = {"p03"};  // taps on a two-segment line (listed in lines.toml)
   double stepped_diameter_m = 1.6e-3;  // first segment's diameter for stepped lines
   double stepped_fraction = 0.3;       // first segment's share of the length
+  // Taps whose line is given by a measured transfer function (line_<tap>.csv beside
+  // lines.toml): the true line's Bergh-Tijdeman response every measured_step_hz up to
+  // the Nyquist frequency, with the scatter of a sweep against a reference transducer.
+  std::vector<std::string> measured_taps = {"p15"};
+  double measured_step_hz = 5.0;
+  double measured_gain_scatter = 0.01;      // rms relative gain error per frequency
+  double measured_phase_scatter_deg = 0.5;  // rms phase error per frequency
 
   // [dead_tap]
   std::string dead_tap = "p07";  // "" for none: the channel reads a stuck value plus noise

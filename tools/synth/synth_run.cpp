@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <complex>
 #include <fstream>
 #include <map>
 #include <memory>
@@ -18,7 +19,9 @@
 #include "tools/synth/h5_append.hpp"
 #include "tools/synth/instruments.hpp"
 #include "tools/synth/piv_generator.hpp"
+#include "tools/synth/piv_text.hpp"
 #include "tools/synth/surface_pressure.hpp"
+#include "tools/synth/truth_criteria.hpp"
 #include "tools/synth/tubing_filter.hpp"
 
 namespace stallscope::synth {
@@ -29,19 +32,19 @@ namespace {
 
 constexpr double kDeg = std::numbers::pi / 180.0;
 
-// Events written per cycle, in this order (names as in events_per_cycle.csv).
-// The lag a pipeline criterion shows against each physical time (common practice):
-//   stall_onset        vortex release (x first below onset_x); moment stall and the
-//                      leading-edge suction collapse follow it by roughly the time
-//                      the vortex needs to leave the leading-edge taps;
-//   vortex_detachment  feeding stops at detach_x_over_c; lift_peak is near it;
-//   vortex_te_passage  the vortex centre at x/c = 1; cm_min comes just before it;
-//   reattachment       x back above reattach_x; load-based reattachment criteria
-//                      that wait for the static curve lag it by a few c/U;
-//   lift_peak, normal_force_peak, cm_min: extrema of the true loads in the cycle.
-const std::vector<std::string> kCycleEvents = {"stall_onset",       "convection_speed", "vortex_detachment",
-                                               "vortex_te_passage", "secondary_vortex", "reattachment",
-                                               "lift_peak",         "normal_force_peak", "cm_min"};
+// Events written per cycle, in this order (names as in events_per_cycle.csv;
+// cycles numbered from 0 at the first cycle's minimum angle, as the pipeline does).
+// Physical times: stall_onset = vortex release (x first below onset_x),
+// vortex_detachment = feeding stops at detach_x_over_c, vortex_te_passage = the
+// vortex centre at x/c = 1, reattachment = x back above reattach_x; lift_peak,
+// normal_force_peak, cm_min = extrema of the true loads; static_stall_crossing,
+// moment_stall, le_suction_collapse = those criteria on the undistorted state
+// (truth_criteria.hpp). The lag of each pipeline criterion behind these times is
+// measured on a realistic run by tests/events/synth_truth_test.cpp.
+const std::vector<std::string> kCycleEvents = {
+    "static_stall_crossing", "stall_onset",       "moment_stall", "le_suction_collapse", "convection_speed",
+    "vortex_detachment",     "vortex_te_passage", "secondary_vortex", "reattachment",    "lift_peak",
+    "normal_force_peak",     "cm_min"};
 
 std::string tap_name(int i) { return fmt::format("p{:02d}", i + 1); }
 
@@ -85,7 +88,9 @@ void write_text_file(const fs::path& path, const std::string& text) {
   if (!out) throw InputError(path.string(), "cannot write file (disk full?)");
 }
 
-std::string reduce_config(const Scenario& s, const std::string& daq_file, bool camera, double total_s) {
+// A run config that reduces the run end to end with every stage its files feed.
+std::string reduce_config(const Scenario& s, const std::string& daq_file, bool camera, double total_s,
+                          double stall_angle_deg) {
   std::string out = fmt::format(
       "# Run config for the synthetic run '{}', written by stallscope synth.\n"
       "# Raw files beside it for the stages that read them: taps.csv, lines.toml,\n"
@@ -96,9 +101,33 @@ std::string reduce_config(const Scenario& s, const std::string& daq_file, bool c
       "[daq]\nfile = \"{}\"\n\n[daq.roles]\nangle = \"alpha_enc\"\nq_ref = \"q_pitot\"\np_static = \"p_static\"\n"
       "temperature = \"t_air\"\n{}\n"
       "[conditions]\ntemperature_c = {:.10g}\nstatic_pressure_pa = {:.10g}\nvelocity_m_s = {:.10g}\n",
-      s.name, camera ? ", piv.h5" : "", s.tare_s, total_s - s.tare_s, total_s, s.name, s.description, s.airfoil,
+      s.name, camera ? (s.piv.text_frames ? ", piv/" : ", piv.h5") : "", s.tare_s, total_s - s.tare_s, total_s, s.name, s.description, s.airfoil,
       s.chord_m, s.span_m, s.pivot_x_over_c, daq_file, camera ? "camera_trigger = \"cam_trigger\"\n" : "",
       s.temperature_c, s.static_pressure_pa, s.velocity_m_s);
+  // Tares a little inside the wind-off windows, clear of the wind ramps.
+  out += fmt::format(
+      "\n[calibrate]\ntap_table = \"taps.csv\"\nzero_before_s = [0.0, {:.6g}]\nzero_after_s = [{:.6g}, {:.6g}]\n"
+      "on_zero_drift = \"flag\"\n\n[calibrate.calibrations]\ntaps = \"calib_taps.toml\"\n"
+      "encoder = \"calib_encoder.toml\"\nreference = \"calib_reference.toml\"\n"
+      "temperature = \"calib_temperature.toml\"\n\n[tubing]\n{}\n"
+      "[cp]\n\n[loads]\n\n[motion]\n\n[cycles]\n\n[phase]\n\n"
+      "[events]\n# The scenario's static stall angle: the maximum of its static Kirchhoff Cn curve.\n"
+      "static_stall_angle_deg = {:.6f}\n",
+      0.9 * s.tare_s, total_s - 0.9 * s.tare_s, total_s,
+      s.stepped_taps.empty() && s.measured_taps.empty() ? "" : "lines = \"lines.toml\"\n", stall_angle_deg);
+  if (camera) {
+    const PivScenario& p = s.piv;
+    out += fmt::format("\n[piv]\nfile = \"{}\"\n# The stack's lab frame has its origin on the pitch axis.\n"
+                       "pivot_x_m = 0\npivot_y_m = 0\n",
+                       p.text_frames ? "piv" : "piv.h5");
+    if (p.text_frames) out += fmt::format("text_units = \"{}\"\n", p.units);
+    if (p.units == "px/frame")
+      out += fmt::format("metres_per_pixel = {:.10g}\npulse_separation_s = {:.10g}\n", 1.0 / p.pixels_per_m,
+                         p.pair_dt_s);
+    else  // the published 0.1 px of the median test, in m/s for this camera
+      out += fmt::format("median_epsilon_m_s = {:.6g}\n", 0.1 / (p.pixels_per_m * p.pair_dt_s));
+    out += fmt::format("\n[vortex]\nmode = \"{}\"\n", p.phase_locked ? "phase_locked" : "time_resolved");
+  }
   return out;
 }
 
@@ -174,6 +203,8 @@ SynthSummary write_synthetic_run(const Scenario& s, const fs::path& directory, b
       stepped_lines[c.line_name] = c.true_line;
     } else {
       c.true_line = {{s.tube_length_m * (1.0 + s.tube_length_error), radius, s.transducer_volume_m3}};
+      if (std::find(s.measured_taps.begin(), s.measured_taps.end(), c.name) != s.measured_taps.end())
+        c.line_name = "measured_" + c.name;
     }
     c.calibration = {c.name, 5.0 * s.gain_spread * instrument_random.normal(),
                      tap_range / kDaqRangeVolts * (1.0 + s.gain_spread * instrument_random.normal())};
@@ -225,6 +256,7 @@ SynthSummary write_synthetic_run(const Scenario& s, const fs::path& directory, b
 
   h5::Id truth_file = create_reproducible_file(staging / "truth.h5");
   const hid_t tf = truth_file.get();
+  piv.stream_truth(tf);
   struct Series {
     const char* name;
     const char* units;
@@ -283,6 +315,11 @@ SynthSummary write_synthetic_run(const Scenario& s, const fs::path& directory, b
   collect_events(now);
   int stalled_cycles = 0;
   std::int64_t last_report = 0;
+  const double stall_angle_deg = static_stall_angle_deg(s);
+  TruthCriteria criteria({stall_angle_deg, 0.05, 0.3});  // the events stage's defaults
+  std::vector<int> le_taps;  // upper taps at x/c <= 0.05, the events stage's leading-edge region
+  for (int i = 0; i < n_taps; ++i)
+    if (layout[i].surface == theory::Surface::kUpper && layout[i].x_over_c <= 0.05) le_taps.push_back(i);
 
   for (std::int64_t k = 0; k < n; ++k) {
     FlowSample next = now;
@@ -365,6 +402,9 @@ SynthSummary write_synthetic_run(const Scenario& s, const fs::path& directory, b
       if (loads_now.cn > pk.cn) pk.cn = loads_now.cn, pk.t_cn = t, pk.a_cn = alpha_deg;
       if (loads_now.cm_quarter_chord < pk.cm) pk.cm = loads_now.cm_quarter_chord, pk.t_cm = t, pk.a_cm = alpha_deg;
     }
+    double le_suction = -INFINITY;
+    for (int i : le_taps) le_suction = std::max(le_suction, -cp_now[i]);
+    criteria.add(now.cycle, t, alpha_deg, now.alpha_rate / kDeg, loads_now.cm_quarter_chord, le_suction);
     piv.observe(now, dt);
 
     now = std::move(next);
@@ -411,6 +451,7 @@ SynthSummary write_synthetic_run(const Scenario& s, const fs::path& directory, b
     h5::write_attribute(tf, "truth", "tare_end_s",
                         std::string(fmt::format("[{:.9g}, {:.9g})", model.last_tare().first, model.last_tare().second)));
     h5::write_attribute(tf, "truth", "seed", static_cast<std::int64_t>(s.seed));
+    h5::write_attribute(tf, "truth", "static_stall_angle_deg", stall_angle_deg);
     h5::write_attribute(tf, "truth", "preset", s.preset);
     h5::write_attribute(tf, "truth", "dead_tap", s.dead_tap);
     h5::write_attribute(tf, "truth", "phase_origin", std::string("cycle start at minimum angle"));
@@ -425,6 +466,10 @@ SynthSummary write_synthetic_run(const Scenario& s, const fs::path& directory, b
   }
   piv.finish(tf);
   truth_file.close();
+  if (piv.enabled() && s.piv.text_frames) {
+    write_text_frames(staging / "piv.h5", staging / "piv");
+    fs::remove(staging / "piv.h5");
+  }
 
   // truth_events.csv: the physical events of each cycle, missing ones marked.
   {
@@ -433,6 +478,7 @@ SynthSummary write_synthetic_run(const Scenario& s, const fs::path& directory, b
       events.push_back({cycle, "normal_force_peak", pk.t_cn, pk.cn, pk.a_cn});
       events.push_back({cycle, "cm_min", pk.t_cm, pk.cm, pk.a_cm});
     }
+    for (const CriterionEvent& e : criteria.finish()) events.push_back({e.cycle, e.event, e.t, e.value, e.alpha_deg});
     std::vector<std::int64_t> cycle_col;
     std::vector<std::string> event_col, status_col, reason_col;
     std::vector<double> t_col, tconv_col, tunc_col, phase_col, alpha_col, value_col;
@@ -444,7 +490,7 @@ SynthSummary write_synthetic_run(const Scenario& s, const fs::path& directory, b
             found = &e;
             break;
           }
-        cycle_col.push_back(c);
+        cycle_col.push_back(c - 1);
         event_col.push_back(name);
         if (found) {
           if (name == "stall_onset") ++stalled_cycles;
@@ -516,6 +562,25 @@ SynthSummary write_synthetic_run(const Scenario& s, const fs::path& directory, b
                              2.0 * g.radius, g.end_volume);
       lines += "]\n";
     }
+    // Measured lines: the true line's response as a sweep against a reference transducer gives it.
+    Random scatter(s.seed, "measured lines");
+    for (const auto& c : taps) {
+      if (c.line_name.rfind("measured_", 0) != 0) continue;
+      const std::string csv = "line_" + c.name + ".csv";
+      lines += fmt::format("\n[lines.{}]\nmeasured = \"{}\"\n", c.line_name, csv);
+      std::string rows = "frequency_hz,gain,phase_deg\n";
+      double unwrapped = 0, previous = 0;
+      for (double f = s.measured_step_hz; f <= 0.5 * fs_hz + 1e-9; f += s.measured_step_hz) {
+        const std::complex<double> h = calib::line_response(c.true_line, tube_air, f);
+        const double phase = std::arg(h) / kDeg;
+        unwrapped += std::remainder(phase - previous, 360.0);
+        previous = phase;
+        const double gain = std::abs(h) * (1 + s.measured_gain_scatter * scatter.normal());
+        rows += fmt::format("{:.10g},{:.8g},{:.8g}\n", f, std::max(gain, 1e-6),
+                            unwrapped + s.measured_phase_scatter_deg * scatter.normal());
+      }
+      write_text_file(staging / csv, rows);
+    }
     write_text_file(staging / "lines.toml", lines);
   }
 
@@ -533,7 +598,7 @@ SynthSummary write_synthetic_run(const Scenario& s, const fs::path& directory, b
     write_calibration_file(staging / "calib_temperature.toml", id + "-temperature", s.calibration_date,
                            "temperature", {thermometer});
   }
-  write_text_file(staging / "reduce.toml", reduce_config(s, daq_name, piv.enabled(), total_s));
+  write_text_file(staging / "reduce.toml", reduce_config(s, daq_name, piv.enabled(), total_s, stall_angle_deg));
   write_text_file(staging / "scenario.toml", s.text);
 
   // Move the complete set in.
@@ -546,6 +611,7 @@ SynthSummary write_synthetic_run(const Scenario& s, const fs::path& directory, b
   for (const auto& entry : fs::directory_iterator(staging)) produced.push_back(entry.path().filename());
   std::sort(produced.begin(), produced.end());
   for (const auto& f : produced) {
+    if (fs::is_directory(directory / f, ec)) fs::remove_all(directory / f, ec);  // --force over text frames
     fs::rename(staging / f, directory / f, ec);
     if (ec) throw InputError((directory / f).string(), "cannot move the finished file into place: " + ec.message());
     summary.files.push_back(directory / f);

@@ -80,14 +80,14 @@ std::optional<Section> fit_section(const ArchiveView& a, PlotFolder& plots) {
   // With [uncertainty]: the instruments' share beside the cycles' spread (the
   // per-cycle rows) and the interval of the mean (above).
   const auto u1 = numbers_of(*summary, "tau1_conv_uncertainty"), u2 = numbers_of(*summary, "tau2_conv_uncertainty");
-  const bool measured = !u1.empty() && !u2.empty();
+  const bool with_uncertainty = !u1.empty() && !u2.empty();
   std::string rows;
   for (std::size_t i = 0; i < estimate.size(); ++i) {
     const bool fitted = status[i] == "fitted";
     rows += fmt::format("<tr><td>{}</td><td>{}</td><td>{}</td><td>{}</td><td>{}</td>", escape_html(estimate[i]),
                         escape_html(kind[i]), fitted ? format_number(t1[i], 4) : "\u2013",
                         fitted ? format_number(t2[i], 4) : "\u2013", format_number(rms[i], 3));
-    if (measured)
+    if (with_uncertainty)
       rows += fmt::format("<td>{}</td><td>{}</td>", fitted ? format_number(u1[i], 3) : "\u2013",
                           fitted ? format_number(u2[i], 3) : "\u2013");
     rows += "</tr>\n";
@@ -97,7 +97,7 @@ std::optional<Section> fit_section(const ArchiveView& a, PlotFolder& plots) {
                         "Goman\u2013Khrabrov loop (attached part with Theodorsen's lag).");
   s.html += "<table>\n<tr><th>estimate</th><th>kind</th><th>\u03c4\u2081 (c/U)</th><th>\u03c4\u2082 (c/U)</th>"
             "<th>rms residual</th>" +
-            std::string(measured ? "<th>\u03c4\u2081 measurement std</th><th>\u03c4\u2082 measurement std</th>" : "") +
+            std::string(with_uncertainty ? "<th>\u03c4\u2081 measurement std</th><th>\u03c4\u2082 measurement std</th>" : "") +
             "</tr>\n" + rows + "</table>\n";
   return s;
 }

@@ -68,10 +68,13 @@ run_one() {  # target
   seed_from_samples "$t" "$seeds"
   log="$build/fuzz-logs/$t.log"
   mkdir -p "$build/fuzz-logs"
-  start=$(date +%s)
+  start=$(date +%s) rc=0
   # -timeout: one input may take 10 s (a slow input is a finding too).
-  (cd "$build/fuzz-logs" && "$build/tests/fuzz/$t" -max_total_time="$seconds" -timeout=10 -rss_limit_mb=2048 \
-    -print_final_stats=1 -artifact_prefix="$crashes/" "$corpus" "$seeds" >"$log" 2>&1) || true
+  # timeout: a hard stop should libFuzzer's own one fail (a hang where its alarm cannot act).
+  (cd "$build/fuzz-logs" && timeout -s KILL $((seconds + 120)) "$build/tests/fuzz/$t" -max_total_time="$seconds" \
+    -timeout=10 -rss_limit_mb=2048 \
+    -print_final_stats=1 -artifact_prefix="$crashes/" "$corpus" "$seeds" >"$log" 2>&1) || rc=$?
+  [ "${rc:-0}" -eq 137 ] && echo "killed after $((seconds + 120)) s" >"$crashes/timeout-killed"
   elapsed=$(( $(date +%s) - start ))
   execs=$(sed -n 's/^stat::number_of_executed_units: *//p' "$log" | tail -1)
   found=$(find "$crashes" -type f ! -name 'timeout-*' | wc -l)

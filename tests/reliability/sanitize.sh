@@ -25,5 +25,6 @@ cmake -S "$root" -B "$build" -DCMAKE_BUILD_TYPE=None -DSTALLSCOPE_SANITIZE=ON -D
   "-DCMAKE_C_FLAGS=$flags" "-DCMAKE_CXX_FLAGS=$flags" >/dev/null
 cmake --build "$build" -j"${BUILD_JOBS:-2}"
 export ASAN_OPTIONS=${ASAN_OPTIONS:-detect_leaks=1:check_initialization_order=1:strict_init_order=1}
+export LSAN_OPTIONS=${LSAN_OPTIONS:-suppressions=$here/lsan.supp:print_suppressions=0}
 export UBSAN_OPTIONS=${UBSAN_OPTIONS:-print_stacktrace=1:halt_on_error=1}
 ctest --test-dir "$build" --output-on-failure -j"${TEST_JOBS:-2}" --timeout 900

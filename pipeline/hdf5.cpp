@@ -5,6 +5,7 @@
 #include <stdexcept>
 
 #include "pipeline/errors.hpp"
+#include "pipeline/hdf5_heap_check.hpp"
 
 namespace stallscope::h5 {
 
@@ -64,6 +65,7 @@ File File::open_read(const fs::path& path) {
   std::error_code ec;
   if (!fs::exists(path, ec)) throw InputError(f.name_, "file not found");
   if (H5Fis_hdf5(f.name_.c_str()) <= 0) throw InputError(f.name_, "not an HDF5 file");
+  check_global_heaps(path, f.name_);  // before libhdf5 can loop on a damaged one
   f.id_ = Id(H5Fopen(f.name_.c_str(), H5F_ACC_RDONLY, H5P_DEFAULT));
   if (!f.id_) throw InputError(f.name_, "cannot open HDF5 file (truncated or damaged?)");
   return f;

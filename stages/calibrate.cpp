@@ -363,7 +363,12 @@ void CalibrateStage::run(RunContext& context) {
 
   RunStore& s = store;
   s.put("signals/time_s", Series{t, "s"});
-  s.put("signals/alpha_deg", Series{alpha, "deg"});
+  // Where the angle came from, for the errors of the stages that read it.
+  std::string angle_source = "channel '" + *angle_channel + "'";
+  const Attributes& angle_role = store.entry("daq/roles/angle").attributes;
+  if (auto it = angle_role.find("source"); it != angle_role.end())
+    angle_source = std::get<std::string>(it->second) + ": " + angle_source;
+  s.put("signals/alpha_deg", Series{alpha, "deg"}, {{"source", angle_source}});
   s.put("signals/q_pa", Series{q, "Pa"}, q_attributes);
   s.put("signals/pitch_frequency_hz", Scalar{f_pitch, "Hz"},
         {{"source", std::string(options_.pitch_frequency_hz > 0 ? "config" : "encoder spectrum")}});

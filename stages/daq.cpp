@@ -59,7 +59,7 @@ void DaqStage::run(RunContext& context) {
       for (const auto& c : r.channels) have += (have.empty() ? "" : ", ") + c;
       throw InputError(role_where_[i], "channel '" + channel + "' is not in " + r.source + " (it has: " + have + ")");
     }
-    context.store().put("daq/roles/" + role, Text{channel});
+    context.store().put("daq/roles/" + role, Text{channel}, {{"source", r.source}});
   }
   RunStore& s = context.store();
   s.put("daq/sample_rate_hz", Scalar{1.0 / median_dt, "Hz"});

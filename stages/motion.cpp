@@ -687,6 +687,12 @@ void MotionStage::run(RunContext& context) {
   RunStore& s = context.store();
   const Eigen::VectorXd& t = s.get<Series>("signals/time_s").values;
   const Eigen::VectorXd& alpha = s.get<Series>(kAngleKey).values;
+  // The DAQ file and channel the angle came from, when the producer says.
+  const Attributes& angle_attributes = s.entry(kAngleKey).attributes;
+  const auto source = angle_attributes.find("source");
+  const std::string where = source != angle_attributes.end() && std::holds_alternative<std::string>(source->second)
+                                ? std::get<std::string>(source->second) + " (role angle)"
+                                : std::string(kAngleKey);
   if (alpha.size() != t.size())
     throw std::logic_error("signals/alpha_deg and signals/time_s differ in length");
   Eigen::Index finite = 0;
@@ -698,11 +704,11 @@ void MotionStage::run(RunContext& context) {
       hi = std::max(hi, a);
     }
   if (finite < 20 || 2 * finite < alpha.size())
-    throw InputError(kAngleKey, "only " + std::to_string(finite) + " of " + std::to_string(alpha.size()) +
+    throw InputError(where, "only " + std::to_string(finite) + " of " + std::to_string(alpha.size()) +
                                     " angle samples are finite numbers (angle channel dead or missing?)");
   const std::string& type = options_.type;
   if (hi == lo && type != "static")
-    throw InputError(kAngleKey, "the angle is exactly constant (" + num(lo) + " deg over " +
+    throw InputError(where, "the angle is exactly constant (" + num(lo) + " deg over " +
                                     std::to_string(alpha.size()) +
                                     " samples): a dead encoder? If the run is static, set [motion] type = \"static\"");
   const Record r{t, alpha, s.get<Scalar>("run/chord_m").value, s.get<Scalar>("run/U_inf_m_s").value};
@@ -772,9 +778,9 @@ void MotionStage::run(RunContext& context) {
   std::string why;
   for (const auto& reason : reasons) why += (why.empty() ? "" : "; ") + reason;
   if (type == "auto")
-    throw InputError(kAngleKey, "the pitch motion is none of sine, ramp, static angle or staircase: " + why +
+    throw InputError(where, "the pitch motion is none of sine, ramp, static angle or staircase: " + why +
                                     ". Check the angle channel, or force a type with [motion] type = ...");
-  throw InputError(type_where_, "type = \"" + type + "\" does not fit " + kAngleKey + ": " + why);
+  throw InputError(type_where_, "type = \"" + type + "\" does not fit the angle (" + where + "): " + why);
 }
 
 }  // namespace stallscope

@@ -2,6 +2,7 @@
 
 #include <charconv>
 #include <cmath>
+#include <fmt/format.h>
 #include <fstream>
 #include <numbers>
 #include <sstream>
@@ -13,6 +14,8 @@
 namespace stallscope::calib {
 
 namespace {
+
+constexpr double kMaxPhaseDeg = 1e6;
 
 std::string read_text(const std::filesystem::path& path, const char* what) {
   std::ifstream in(path, std::ios::binary);
@@ -166,11 +169,15 @@ MeasuredResponse parse_measured_response(const std::string& text, const std::str
     if (v[0] < 0 || (!r.frequency_hz.empty() && v[0] <= r.frequency_hz.back()))
       throw InputError(where, "frequency_hz must be >= 0 and increasing");
     if (!(v[1] > 0)) throw InputError(where, "gain must be > 0");
-    // Unwrap the phase so interpolation never jumps across +-180 degrees.
+    // A long line lags some thousands of degrees at kHz; a million is a broken file.
+    if (std::abs(v[2]) > kMaxPhaseDeg)
+      throw InputError(where, fmt::format("phase_deg must be within +-{:g} degrees, found '{}'", kMaxPhaseDeg, v[2]));
+    // Unwrap the phase so interpolation never jumps across +-180 degrees: whole
+    // turns in one step, so the work does not grow with the size of the jump.
     double ph = v[2] + unwrap;
     if (!r.phase_deg.empty()) {
-      while (ph - previous > 180) ph -= 360, unwrap -= 360;
-      while (ph - previous < -180) ph += 360, unwrap += 360;
+      const double turns = std::ceil((ph - previous - 180.0) / 360.0);
+      ph -= 360.0 * turns, unwrap -= 360.0 * turns;
     }
     previous = ph;
     r.frequency_hz.push_back(v[0]);

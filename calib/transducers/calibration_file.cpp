@@ -1,6 +1,8 @@
 #include "calib/transducers/calibration_file.hpp"
 
 #include <cmath>
+#include <cstdio>
+#include <stdexcept>
 #include <fmt/format.h>
 #include <fstream>
 #include <sstream>
@@ -145,18 +147,32 @@ CalibrationFile parse_calibration(const std::string& text, const std::filesystem
   return f;
 }
 
+// Built as a TOML++ table and printed by its formatter, so an id or a channel
+// name holding quotes, backslashes, dots or spaces is escaped or quoted, and
+// every double is written with enough digits to read back exactly.
 std::string format_calibration(const CalibrationFile& f) {
-  std::string s = fmt::format("id = \"{}\"\ndate = {}\nkind = \"{}\"\n", f.id, f.date, kind_name(f.kind));
+  int year = 0, month = 0, day = 0;
+  if (std::sscanf(f.date.c_str(), "%4d-%2d-%2d", &year, &month, &day) != 3)
+    throw std::logic_error("calibration date '" + f.date + "' is not yyyy-mm-dd");
+  toml::table channels;
   for (const auto& [name, c] : f.channels) {
-    s += fmt::format("\n[channels.{}]\ncoefficients = [", name);
-    for (std::size_t i = 0; i < c.coefficients.size(); ++i) s += fmt::format("{}{:.17g}", i ? ", " : "", c.coefficients[i]);
-    s += "]\n";
-    if (c.temperature_coefficient_per_k != 0.0)
-      s += fmt::format("temperature_coefficient_per_k = {:.17g}\nreference_temperature_c = {:.17g}\n",
-                       c.temperature_coefficient_per_k, c.reference_temperature_c);
-    if (c.residual >= 0) s += fmt::format("residual_pa = {:.6g}\n", c.residual);
+    toml::array coefficients;
+    for (double v : c.coefficients) coefficients.push_back(v);
+    toml::table t{{"coefficients", std::move(coefficients)}};
+    if (c.temperature_coefficient_per_k != 0.0) {
+      t.insert("temperature_coefficient_per_k", c.temperature_coefficient_per_k);
+      t.insert("reference_temperature_c", c.reference_temperature_c);
+    }
+    if (c.residual >= 0) t.insert("residual_pa", c.residual);
+    channels.insert(name, std::move(t));
   }
-  return s;
+  const toml::table file{{"id", f.id},
+                         {"date", toml::date{year, month, day}},
+                         {"kind", std::string(kind_name(f.kind))},
+                         {"channels", std::move(channels)}};
+  std::ostringstream out;
+  out << toml::toml_formatter(file) << "\n";
+  return out.str();
 }
 
 }  // namespace stallscope::calib

@@ -349,6 +349,19 @@ void EventsStage::run(RunContext& context) {
   const Filtered cn = filter_signal(filter, s.get<Series>("loads/cn").values, "loads/cn");
   const Filtered cm = filter_signal(filter, s.get<Series>("loads/cm").values, "loads/cm");
   const events::Trace cl_trace{t, cl.y, cl.noise}, cn_trace{t, cn.y, cn.noise}, cm_trace{t, cm.y, cm.noise};
+  // Load samples bridged because Cl, Cn or Cm was not finite there, counted up to each sample:
+  // a cycle with any is timed on interpolated loads, so its events are suspect, not ok.
+  std::vector<std::int64_t> bridged_before(static_cast<std::size_t>(t.size()) + 1, 0);
+  const Eigen::VectorXd &cl_raw = s.get<Series>("loads/cl").values, &cn_raw = s.get<Series>("loads/cn").values,
+                        &cm_raw = s.get<Series>("loads/cm").values;
+  for (Eigen::Index i = 0; i < t.size(); ++i) {
+    const bool gap = !std::isfinite(cl_raw[i]) || !std::isfinite(cn_raw[i]) || !std::isfinite(cm_raw[i]);
+    bridged_before[static_cast<std::size_t>(i) + 1] = bridged_before[static_cast<std::size_t>(i)] + (gap ? 1 : 0);
+  }
+  auto bridged_between = [&](double t0, double t1) {
+    return bridged_before[static_cast<std::size_t>(events::index_at(t, t1))] -
+           bridged_before[static_cast<std::size_t>(events::index_at(t, t0))];
+  };
 
   // Static stall angle and lift slope: config, then a static-run archive, then this run's polar.
   StaticReference ref;
@@ -520,6 +533,11 @@ void EventsStage::run(RunContext& context) {
     const Span* sp = by_cycle.count(r.cycle) ? by_cycle.at(r.cycle) : nullptr;
     events::EventRecord e{r.cycle, r.event, r.status, r.reason, r.t_s, kNaN, r.t_uncertainty_s, kNaN, kNaN, r.value,
                           kNaN};
+    // Last guard: a found event has a finite time, never a NaN that the statistics would skip.
+    if (e.status != "missing" && !std::isfinite(e.t_s)) {
+      e.reason = "its time is not a finite number" + (e.reason.empty() ? "" : " (" + e.reason + ")");
+      e.status = "missing";
+    }
     if (sp && std::isfinite(r.t_s)) {
       e.t_conv = (r.t_s - sp->t_start) * sp->convective_per_s;
       e.phase_deg = phase(r.t_s);
@@ -544,7 +562,17 @@ void EventsStage::run(RunContext& context) {
     w.search_end = std::min(sp.t_end + o.reattachment_search_periods * (ramp ? 0.0 : 1 / pitch_hz), t_last);
     w.convective_per_s = sp.convective_per_s;
     w.ramp = ramp;
-    for (const events::EventRow& r : events::detect_cycle_events(in, w, th)) record(r);
+    for (events::EventRow r : events::detect_cycle_events(in, w, th)) {
+      // The cycle, and the next one's start when the event was found there (reattachment).
+      const std::int64_t bridged =
+          bridged_between(w.t_start, std::isfinite(r.t_s) ? std::max(w.t_end, r.t_s + 1 / fs) : w.t_end);
+      if (bridged > 0 && r.status == "ok") {
+        r.status = "suspect";
+        r.reason = std::to_string(bridged) + " load samples of the cycle were not finite and were bridged" +
+                   (r.reason.empty() ? "" : "; " + r.reason);
+      }
+      record(r);
+    }
   }
 
   // Vortex events from the PIV path join the table as they are.
@@ -620,6 +648,7 @@ void EventsStage::run(RunContext& context) {
       {"reattachment_tolerance", o.reattachment_tolerance},
       {"reattachment_sustain_s", th.reattachment_sustain_s},
       {"vortex_rows", vortex_rows},
+      {"bridged_load_samples", bridged_before.back()},
       {"motion", motion_type}};
   if (ramp) per_cycle_attrs["ramp"] = std::string("one cycle from the start of the ramp; t_conv from the ramp start");
 

@@ -148,6 +148,7 @@ bool parse_number(std::string_view f, double& v) {
 
 struct TextRow {
   double x, y, u, v, valid;
+  std::size_t line;  // in its file, for errors
 };
 
 std::vector<TextRow> read_text_frame(const fs::path& path) {
@@ -168,7 +169,7 @@ std::vector<TextRow> read_text_frame(const fs::path& path) {
       if (!parse_number(f[k], d[k]))
         throw InputError(where, "field " + std::to_string(k + 1) + ": expected a number, found '" + std::string(f[k]) + "'");
     if (!std::isfinite(d[0]) || !std::isfinite(d[1])) throw InputError(where, "x and y must be finite");
-    rows.push_back({d[0], d[1], d[2], d[3], d[4]});
+    rows.push_back({d[0], d[1], d[2], d[3], d[4], line_no});
   }
   if (rows.empty()) throw InputError(path.string(), "PIV text frame has no vectors");
   return rows;
@@ -255,8 +256,9 @@ class TextFrames final : public FrameSource {
         const std::size_t i = find_on_axis(grid_.x_m, rows[r].x, tolerance_);
         const std::size_t j = find_on_axis(grid_.y_m, rows[r].y, tolerance_);
         if (i == grid_.nx() || j == grid_.ny())
-          throw InputError(files_[n].string(), "vector " + std::to_string(r + 1) + " at (" + std::to_string(rows[r].x) +
-                                                   ", " + std::to_string(rows[r].y) + ") is off the grid of the first frame");
+          throw InputError(files_[n].string() + ":" + std::to_string(rows[r].line),
+                           "vector at (" + std::to_string(rows[r].x) + ", " + std::to_string(rows[r].y) +
+                               ") is off the grid of the first frame (" + files_[0].string() + ")");
         const std::size_t p = j * grid_.nx() + i;
         f.u[p] = static_cast<float>(rows[r].u);
         f.v[p] = static_cast<float>(rows[r].v);

@@ -510,6 +510,38 @@ TEST(InvalidCycles, StayInTheTableButOutOfTheStatistics) {
   EXPECT_EQ(h.summary("lift_peak", "t_conv", "n"), 11);
 }
 
+TEST(NonFiniteLoads, MakeTheirCycleSuspectAndNeverReachTheTableAsNaN) {
+  Harness h;
+  SyntheticRun run;
+  run.taps = false;
+  run.put(h.store);
+  // A DAQ dropout: Cl, Cn and Cm not finite over a tenth of a period around cycle 3's stall.
+  const Eigen::VectorXd& t = h.store.get<Series>("loads/time_s").values;
+  int dropped = 0;
+  for (const char* key : {"loads/cl", "loads/cn", "loads/cm"}) {
+    Eigen::VectorXd& y = h.store.get_mutable<Series>(key).values;
+    dropped = 0;
+    for (Eigen::Index i = 0; i < t.size(); ++i)
+      if (std::abs(t[i] - run.breaks[3]) < 0.05 / run.freq()) y[i] = kNaN, ++dropped;
+  }
+  ASSERT_GT(dropped, 10);
+  h.run(kConfig);
+  const Table& table = h.store.get<Table>("events/per_cycle");
+  for (std::size_t r = 0; r < table.rows(); ++r) {
+    SCOPED_TRACE(table.texts("event")[r] + " in cycle " + std::to_string(table.integers("cycle")[r]));
+    const std::string& status = table.texts("status")[r];
+    EXPECT_TRUE(status == "missing" || std::isfinite(table.numbers("t_s")[r]));
+    if (table.integers("cycle")[r] != 3) continue;
+    EXPECT_NE(status, "ok");
+    EXPECT_TRUE(status != "suspect" || table.texts("reason")[r].find("not finite and were bridged") != std::string::npos)
+        << table.texts("reason")[r];
+  }
+  EXPECT_EQ(std::get<std::int64_t>(h.store.entry("events/per_cycle").attributes.at("bridged_load_samples")), dropped);
+  EXPECT_EQ(h.rows("lift_peak").find(4)->second.status, "ok");
+  EXPECT_EQ(h.summary("lift_peak", "t_conv", "n"), 11);  // the suspect cycle stays out of the statistics
+  EXPECT_TRUE(std::isfinite(h.summary("lift_peak", "t_conv", "mean")));
+}
+
 TEST(VortexEvents, FromThePivPathJoinTheTableAndTheSummary) {
   Harness h;
   SyntheticRun run;

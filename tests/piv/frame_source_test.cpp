@@ -126,7 +126,8 @@ TEST(TextFrames, RejectBadIndexAndOffGridVectors) {
     src->read(1, 1, chunk);
     ADD_FAILURE() << "no error";
   } catch (const InputError& e) {
-    EXPECT_NE(std::string(e.what()).find("f1.txt: vector 2 at (0.500000, 0.000000) is off the grid"), std::string::npos)
+    EXPECT_NE(std::string(e.what()).find("f1.txt:2: vector at (0.500000, 0.000000) is off the grid of the first frame"),
+              std::string::npos)
         << e.what();
   }
   dir.write("d/index.csv", "frame,file,time_s\n0,f0.txt,0.0\n");

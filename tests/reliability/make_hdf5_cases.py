@@ -2,6 +2,7 @@
 """Writes the HDF5 files of the bad-input catalogue (tests/reliability/catalogue/daq_h5_*).
 
 Run with Debian's interpreter (it has h5py): /usr/bin/python3 tests/reliability/make_hdf5_cases.py
+The cases that need a whole small run (taps, calibrations, PIV, campaigns) are written by make_run_cases.py.
 Each case folder also holds its run.toml and expect.toml, written by hand.
 """
 import os

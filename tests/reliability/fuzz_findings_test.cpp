@@ -1,0 +1,138 @@
+// Regression tests for what tests/fuzz/run.sh found: each input kept in
+// tests/reliability/fuzz_findings/ must now give the right answer.
+#include <gtest/gtest.h>
+
+#include <fstream>
+
+#include "calib/lines/lines_file.hpp"
+#include "calib/transducers/calibration_file.hpp"
+#include "pipeline/errors.hpp"
+#include "pipeline/hdf5.hpp"
+#include "pipeline/hdf5_heap_check.hpp"
+#include "tests/support/test_support.hpp"
+
+namespace stallscope {
+namespace {
+
+const std::filesystem::path kFindings = testing::kSourceDir / "tests/reliability/fuzz_findings";
+
+std::string input_error(const std::function<void()>& f) {
+  try {
+    f();
+  } catch (const InputError& e) {
+    return e.what();
+  }
+  return "(no InputError)";
+}
+
+// fuzz_calibration: an id holding backslashes was written back unescaped and read as another id.
+TEST(FuzzFinding, CalibrationIdWithBackslashesIsWrittenBackAsTheSameId) {
+  const auto file = kFindings / "calibration_id_escaping.toml";
+  const calib::CalibrationFile f = calib::parse_calibration(testing::read_text(file), file);
+  EXPECT_EQ(f.id, "press-press-201ressX\\\\\\\\\\\\r2026-11");
+  const calib::CalibrationFile g = calib::parse_calibration(calib::format_calibration(f), "again.toml");
+  EXPECT_EQ(g.id, f.id);
+  EXPECT_EQ(g.channels.at("p01").coefficients, f.channels.at("p01").coefficients);
+}
+
+TEST(FuzzFinding, CalibrationQuotesAndOddChannelNamesSurviveTheRoundTrip) {
+  calib::CalibrationFile f;
+  f.id = "scanner \"B\" \\ \t tab, line\nbreak";
+  f.date = "2026-11-20";
+  f.kind = calib::CalibrationKind::kPressureTransducers;
+  calib::ChannelCalibration c;
+  c.coefficients = {-11.0, 248.5, 0.1 + 0.2};  // 0.30000000000000004 needs 17 digits
+  c.temperature_coefficient_per_k = 1e-3;
+  c.residual = 0.25;
+  f.channels.emplace("p.01 \"left\"", c);
+  f.channels.emplace("p02", c);
+  const std::string text = calib::format_calibration(f);
+  const calib::CalibrationFile g = calib::parse_calibration(text, "again.toml");
+  EXPECT_EQ(g.id, f.id) << text;
+  EXPECT_EQ(g.date, f.date);
+  EXPECT_EQ(g.kind, f.kind);
+  ASSERT_EQ(g.channels.size(), 2u) << text;
+  const calib::ChannelCalibration& back = g.channels.at("p.01 \"left\"");
+  EXPECT_EQ(back.coefficients, c.coefficients);
+  EXPECT_EQ(back.temperature_coefficient_per_k, c.temperature_coefficient_per_k);
+  EXPECT_EQ(back.residual, c.residual);
+}
+
+// fuzz_measured_response: a phase of 1e300 degrees made the unwrap loop step 360 at a time forever.
+TEST(FuzzFinding, AbsurdPhaseInAMeasuredResponseIsBadInputNamingTheLine) {
+  const auto file = kFindings / "measured_response_phase_hang.csv";
+  const std::string e =
+      input_error([&] { calib::parse_measured_response(testing::read_text(file), "line_probe.csv"); });
+  EXPECT_NE(e.find("line_probe.csv:3"), std::string::npos) << e;
+  EXPECT_NE(e.find("phase_deg"), std::string::npos) << e;
+  for (const char* phase : {"1e300", "-1e7", "inf", "nan"}) {
+    const std::string row = std::string("frequency_hz,gain,phase_deg\n0,1,0\n5,1,") + phase + "\n";
+    EXPECT_NE(input_error([&] { calib::parse_measured_response(row, "p.csv"); }).find("p.csv:3"), std::string::npos)
+        << phase;
+  }
+}
+
+TEST(FuzzFinding, PhaseJumpsOfManyTurnsUnwrapInOneStep) {
+  const calib::MeasuredResponse r = calib::parse_measured_response(
+      "frequency_hz,gain,phase_deg\n0,1,0\n10,1,-350\n20,1,72010\n30,1,-190\n", "p.csv");
+  ASSERT_EQ(r.phase_deg.size(), 4u);
+  EXPECT_DOUBLE_EQ(r.phase_deg[1], 10.0);   // -350 + 360
+  EXPECT_DOUBLE_EQ(r.phase_deg[2], 10.0);   // 72010 - 200 turns
+  EXPECT_DOUBLE_EQ(r.phase_deg[3], 170.0);  // -190 + 360
+}
+
+// fuzz_archive_bytes: libhdf5 1.10 loops forever in H5HG_read on a global heap whose
+// free-space entry has size 0. The check refuses the file before the library reads it.
+TEST(FuzzFinding, DamagedGlobalHeapIsRefusedBeforeLibhdf5CanLoopOnIt) {
+  const auto file = kFindings / "libhdf5_global_heap_hang_archive.h5";
+  const std::string e = input_error([&] { h5::check_global_heaps(file, "archive.h5"); });
+  EXPECT_NE(e.find("archive.h5: damaged HDF5 file: the global heap collection at byte 2048"), std::string::npos) << e;
+  EXPECT_NE(input_error([&] { h5::File::open_read(file); }).find("global heap"), std::string::npos);
+}
+
+std::string patched(const std::string& bytes, std::size_t at, std::uint64_t value, std::size_t width) {
+  std::string out = bytes;
+  for (std::size_t i = 0; i < width; ++i) out[at + i] = static_cast<char>((value >> (8 * i)) & 0xff);
+  return out;
+}
+
+TEST(GlobalHeapCheck, PassesSoundFilesAndRefusesEveryEndlessOrOutOfBoundsWalk) {
+  testing::ScratchDir dir;
+  // A sound file with variable-length strings: an attribute and a dataset.
+  const auto sound = dir / "sound.h5";
+  const auto script = dir.write("sound.py",
+                                "import h5py, sys\n"
+                                "with h5py.File(sys.argv[1], 'w') as f:\n"
+                                "    d = f.create_dataset('names', data=['alpha_enc', 'q_pitot', 'p01'],\n"
+                                "                         dtype=h5py.string_dtype())\n"
+                                "    d.attrs['units'] = 'V'\n");
+  const testing::CommandResult made = testing::run_python(script, testing::shell_quote(sound.string()));
+  ASSERT_EQ(made.exit_code, 0) << made.err;
+  EXPECT_NO_THROW(h5::check_global_heaps(sound, "sound.h5"));
+  for (const char* sample : {"sample_data/kestrel_ridge/run1/daq.h5", "sample_data/kestrel_ridge/run1/piv.h5"}) {
+    if (std::filesystem::exists(testing::kSourceDir / sample)) {
+      EXPECT_NO_THROW(h5::check_global_heaps(testing::kSourceDir / sample, sample)) << sample;
+    }
+  }
+
+  // Its first collection: header (16 bytes), then objects of 16-byte headers.
+  const std::string bytes = testing::read_text(sound);
+  const std::size_t gcol = bytes.find("GCOL");
+  ASSERT_NE(gcol, std::string::npos);
+  const std::size_t first_object = gcol + 16;
+  ASSERT_EQ(bytes[first_object], 1);  // heap object 1
+  auto refused = [&](const std::string& damaged) {
+    const auto p = dir / "damaged.h5";
+    std::ofstream(p, std::ios::binary) << damaged;
+    return input_error([&] { h5::check_global_heaps(p, "damaged.h5"); });
+  };
+  // Object 1 turned into a free-space entry of size 0: libhdf5 would never move on.
+  EXPECT_NE(refused(patched(patched(bytes, first_object, 0, 2), first_object + 8, 0, 8)).find("has size 0"),
+            std::string::npos);
+  // Object 1 declaring 2^63 bytes: libhdf5 would step outside the collection.
+  EXPECT_NE(refused(patched(bytes, first_object + 8, std::uint64_t{1} << 63, 8)).find("past the collection's end"),
+            std::string::npos);
+}
+
+}  // namespace
+}  // namespace stallscope

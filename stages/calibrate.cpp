@@ -1,7 +1,5 @@
 #include "stages/calibrate.hpp"
 
-#include <fftw3.h>
-
 #include <algorithm>
 #include <cmath>
 #include <fmt/format.h>
@@ -12,6 +10,7 @@
 #include "calib/transducers/calibration_file.hpp"
 #include "pipeline/errors.hpp"
 #include "pipeline/perturbation.hpp"
+#include "stages/numerics/spectrum.hpp"
 
 namespace stallscope {
 
@@ -88,15 +87,9 @@ Eigen::VectorXd centred_moving_mean(const Eigen::VectorXd& x, double window) {
 double fundamental_frequency(const Eigen::VectorXd& x, double rate, double min_hz, double min_amplitude) {
   const int n = static_cast<int>(x.size());
   if (n < 8) return 0.0;
-  std::vector<double> in(x.data(), x.data() + n);
-  const double mean = x.mean();
-  for (double& v : in) v -= mean;
-  std::vector<fftw_complex> out(static_cast<std::size_t>(n / 2 + 1));
-  fftw_plan plan = fftw_plan_dft_r2c_1d(n, in.data(), out.data(), FFTW_ESTIMATE);
-  fftw_execute(plan);
-  fftw_destroy_plan(plan);
-  std::vector<double> mag(out.size());
-  for (std::size_t i = 0; i < out.size(); ++i) mag[i] = std::hypot(out[i][0], out[i][1]) * 2.0 / n;
+  const Eigen::VectorXd spectrum = numerics::amplitude_spectrum(x.array() - x.mean());
+  std::vector<double> mag(static_cast<std::size_t>(spectrum.size()));
+  for (std::size_t i = 0; i < mag.size(); ++i) mag[i] = spectrum[static_cast<Eigen::Index>(i)] * 2.0 / n;
   const auto first = static_cast<std::size_t>(std::ceil(min_hz * n / rate));
   std::size_t best = 0;
   for (std::size_t i = std::max<std::size_t>(1, first); i + 1 < mag.size(); ++i)

@@ -17,6 +17,7 @@
 #include "calib/tubing/bergh_tijdeman.hpp"
 #include "pipeline/errors.hpp"
 #include "pipeline/perturbation.hpp"
+#include "stages/numerics/fftw_planner.hpp"
 
 namespace stallscope {
 
@@ -24,17 +25,12 @@ namespace tubing {
 
 namespace {
 
-std::mutex& planner_mutex() {
-  static std::mutex m;  // FFTW's planner is not thread-safe; execution is
-  return m;
-}
-
 // Real record -> spectrum x gain(bin) -> real record, zero-padded to a fast size.
 // Plans are made once; run() may be called from several threads at once.
 class SpectralFilter {
  public:
   explicit SpectralFilter(int n) : n_(n), nfft_(fast_fft_size(n)) {
-    std::lock_guard lock(planner_mutex());
+    std::lock_guard lock(numerics::fftw_planner_mutex());
     double* in = fftw_alloc_real(static_cast<std::size_t>(nfft_));
     fftw_complex* out = fftw_alloc_complex(static_cast<std::size_t>(bins()));
     forward_ = fftw_plan_dft_r2c_1d(nfft_, in, out, FFTW_ESTIMATE);
@@ -45,7 +41,7 @@ class SpectralFilter {
   SpectralFilter(const SpectralFilter&) = delete;
   SpectralFilter& operator=(const SpectralFilter&) = delete;
   ~SpectralFilter() {
-    std::lock_guard lock(planner_mutex());
+    std::lock_guard lock(numerics::fftw_planner_mutex());
     fftw_destroy_plan(forward_);
     fftw_destroy_plan(inverse_);
   }

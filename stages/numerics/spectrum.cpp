@@ -8,15 +8,14 @@
 #include <mutex>
 #include <stdexcept>
 
+#include "stages/numerics/fftw_planner.hpp"
+
 namespace stallscope::numerics {
 
-namespace {
-// FFTW's planner is not thread-safe; execution is.
-std::mutex& planner_mutex() {
+std::mutex& fftw_planner_mutex() {
   static std::mutex m;
   return m;
 }
-}  // namespace
 
 Eigen::VectorXd amplitude_spectrum(const Eigen::VectorXd& y) {
   const int n = static_cast<int>(y.size());
@@ -27,12 +26,12 @@ Eigen::VectorXd amplitude_spectrum(const Eigen::VectorXd& y) {
       static_cast<fftw_complex*>(fftw_malloc(sizeof(fftw_complex) * bins)), &fftw_free);
   fftw_plan plan;
   {
-    std::lock_guard<std::mutex> lock(planner_mutex());
+    std::lock_guard<std::mutex> lock(fftw_planner_mutex());
     plan = fftw_plan_dft_r2c_1d(n, in.data(), out.get(), FFTW_ESTIMATE);
   }
   fftw_execute(plan);
   {
-    std::lock_guard<std::mutex> lock(planner_mutex());
+    std::lock_guard<std::mutex> lock(fftw_planner_mutex());
     fftw_destroy_plan(plan);
   }
   Eigen::VectorXd a(bins);

@@ -8,13 +8,13 @@
 #include <numbers>
 #include <stdexcept>
 
+#include "stages/numerics/fftw_planner.hpp"
+
 namespace stallscope::synth {
 
 namespace {
 constexpr double kTaperStart = 0.5;  // fraction of the Nyquist frequency
 constexpr int kDesignLength = 65536;  // design grid, samples
-// FFTW's planner is not thread-safe; plans are made under this lock.
-std::mutex fftw_planner_mutex;
 }  // namespace
 
 std::vector<double> tubing_impulse_response(std::span<const calib::TubeSegment> line, const calib::AirProperties& air,
@@ -29,7 +29,7 @@ std::vector<double> tubing_impulse_response(std::span<const calib::TubeSegment> 
   double* impulse = fftw_alloc_real(design);
   fftw_plan plan;
   {
-    std::lock_guard lock(fftw_planner_mutex);
+    std::lock_guard lock(numerics::fftw_planner_mutex());
     plan = fftw_plan_dft_c2r_1d(design, spectrum, impulse, FFTW_ESTIMATE);
   }
   const double nyquist = 0.5 * sample_rate_hz;
@@ -47,7 +47,7 @@ std::vector<double> tubing_impulse_response(std::span<const calib::TubeSegment> 
   fftw_execute(plan);
   std::vector<double> out(impulse, impulse + n);
   {
-    std::lock_guard lock(fftw_planner_mutex);
+    std::lock_guard lock(numerics::fftw_planner_mutex());
     fftw_destroy_plan(plan);
   }
   fftw_free(spectrum);

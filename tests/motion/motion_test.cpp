@@ -267,7 +267,7 @@ TEST(MotionStage, SaysWhyAForcedRampDoesNotFitAndNothingIsWritten) {
   } catch (const InputError& e) {
     const std::string what = e.what();
     EXPECT_NE(what.find("run.toml:2"), std::string::npos) << what;
-    EXPECT_NE(what.find("type = \"ramp\" does not fit signals/alpha_deg"), std::string::npos) << what;
+    EXPECT_NE(what.find("type = \"ramp\" does not fit the angle"), std::string::npos) << what;
     EXPECT_NE(what.find("no ramp fits"), std::string::npos) << what;  // and why: each attempt's reason
   }
   EXPECT_FALSE(h.store.contains("motion/alpha_deg"));

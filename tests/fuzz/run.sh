@@ -27,6 +27,7 @@ if [ ! -f "$build/CMakeCache.txt" ]; then
     -DSTALLSCOPE_FUZZ=ON -DSTALLSCOPE_SANITIZE=ON -DSTALLSCOPE_BUILD_BENCH=OFF \
     -DCMAKE_C_FLAGS=-fno-sanitize-recover=undefined -DCMAKE_CXX_FLAGS=-fno-sanitize-recover=undefined >/dev/null
 fi
+build=$(cd "$build" && pwd)  # absolute: each target runs from its log folder
 if [ -z "${FUZZ_NO_BUILD:-}" ]; then
   if [ $# -gt 0 ]; then
     for t in "$@"; do cmake --build "$build" -j"${BUILD_JOBS:-2}" --target "$t" >/dev/null; done
@@ -96,6 +97,10 @@ wait
 status=0
 for t in $targets; do
   cat "$build/fuzz-logs/$t.log.summary"
+  if ! grep -q '^stat::number_of_executed_units' "$build/fuzz-logs/$t.log" 2>/dev/null; then
+    echo "  $t did not run to its end: log $build/fuzz-logs/$t.log" >&2
+    status=1
+  fi
   if [ -n "$(find "$build/fuzz-crashes/$t" -type f ! -name 'timeout-*')" ]; then
     # A crash whose innermost frame is in libhdf5 is the library's (tests/reliability/
     # fuzz_findings/README.md lists the known ones): reported, fails with FUZZ_STRICT=1.

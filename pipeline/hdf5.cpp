@@ -339,6 +339,26 @@ std::vector<std::int64_t> read_integers(hid_t file, const std::string& path, con
   return read_numeric<std::int64_t>(file, path, file_name, H5T_NATIVE_INT64, nullptr);
 }
 
+// The heap ids of a contiguous dataset are checked in the file's bytes (chunked
+// and compact layouts keep them where only the library can reach them).
+static void check_string_references_before_reading(hid_t file, hid_t ds, const std::string& path,
+                                                   const std::string& file_name, hsize_t n) {
+  Id dcpl(H5Dget_create_plist(ds));
+  if (!dcpl || H5Pget_layout(dcpl.get()) != H5D_CONTIGUOUS) return;
+  const haddr_t offset = H5Dget_offset(ds);
+  if (offset == HADDR_UNDEF) return;
+  Id fcpl(H5Fget_create_plist(file));
+  std::size_t address = 8, length = 8;
+  hsize_t user_block = 0;
+  if (!fcpl || H5Pget_sizes(fcpl.get(), &address, &length) < 0 || H5Pget_userblock(fcpl.get(), &user_block) < 0)
+    return;
+  const ssize_t name_size = H5Fget_name(file, nullptr, 0);
+  if (name_size <= 0) return;
+  std::string real(static_cast<std::size_t>(name_size), '\0');
+  H5Fget_name(file, real.data(), real.size() + 1);
+  check_string_references(real, file_name, path, {user_block, offset, n, address});
+}
+
 std::vector<std::string> read_texts(hid_t file, const std::string& path, const std::string& file_name) {
   DatasetInfo di = info(file, path, file_name);
   if (di.type_class != H5T_STRING) throw InputError(file_name, "/" + path + " must hold strings");
@@ -348,6 +368,7 @@ std::vector<std::string> read_texts(hid_t file, const std::string& path, const s
   const hsize_t n = checked_elements(file, path, file_name, di, sizeof(char*));
   std::vector<std::string> out;
   if (H5Tis_variable_str(ftype.get()) > 0) {
+    check_string_references_before_reading(file, ds.get(), path, file_name, n);
     Id t = utf8_vlen_string();
     std::vector<char*> ptrs(n, nullptr);
     if (n && H5Dread(ds.get(), t.get(), H5S_ALL, H5S_ALL, H5P_DEFAULT, ptrs.data()) < 0)
@@ -369,6 +390,24 @@ std::vector<std::string> read_texts(hid_t file, const std::string& path, const s
   return out;
 }
 
+// A damaged attribute message can hold fewer bytes than its dataspace and
+// type promise; libhdf5 1.10 then copies past its own buffer in H5Aread. A
+// variable-length string is stored as a global heap id: a 4-byte length, an
+// address of the file's address size and a 4-byte index.
+static bool attribute_storage_intact(hid_t attr, hid_t type, hid_t space) {
+  const hssize_t n = H5Sget_simple_extent_npoints(space);
+  if (n < 0) return false;
+  hsize_t element = H5Tget_size(type);
+  if (H5Tis_variable_str(type) > 0) {
+    Id file(H5Iget_file_id(attr));
+    Id fcpl(H5Fget_create_plist(file.get()));
+    std::size_t address = 8, length = 8;
+    if (!fcpl || H5Pget_sizes(fcpl.get(), &address, &length) < 0) return false;
+    element = 4 + address + 4;
+  }
+  return H5Aget_storage_size(attr) >= static_cast<hsize_t>(n) * element;
+}
+
 std::optional<AttributeValue> read_attribute(hid_t file, const std::string& object_path, const std::string& name) {
   const char* obj = object_path.empty() ? "/" : object_path.c_str();
   if (!object_path.empty() && !exists(file, object_path)) return std::nullopt;
@@ -377,6 +416,7 @@ std::optional<AttributeValue> read_attribute(hid_t file, const std::string& obje
   Id type(H5Aget_type(a.get()));
   Id space(H5Aget_space(a.get()));
   if (H5Sget_simple_extent_npoints(space.get()) != 1) return std::nullopt;  // a list: read_text_list_attribute
+  if (!attribute_storage_intact(a.get(), type.get(), space.get())) return std::nullopt;
   switch (H5Tget_class(type.get())) {
     case H5T_FLOAT: {
       double d = 0;
@@ -416,7 +456,7 @@ std::vector<std::string> read_text_list_attribute(hid_t file, const std::string&
   if (H5Tget_class(type.get()) != H5T_STRING) return out;
   Id space(H5Aget_space(a.get()));
   hssize_t n = H5Sget_simple_extent_npoints(space.get());
-  if (n <= 0) return out;
+  if (n <= 0 || !attribute_storage_intact(a.get(), type.get(), space.get())) return out;
   if (H5Tis_variable_str(type.get()) > 0) {
     Id t = utf8_vlen_string();
     std::vector<char*> ptrs(static_cast<std::size_t>(n), nullptr);

@@ -4,6 +4,7 @@
 #include <cstdint>
 #include <cstring>
 #include <fstream>
+#include <map>
 #include <vector>
 
 #include "pipeline/errors.hpp"
@@ -63,8 +64,11 @@ std::vector<std::uint64_t> signature_offsets(std::ifstream& in) {
 }
 
 // Walks one collection's objects the way libhdf5 1.10 does
-// (H5HG__cache_heap_deserialize); returns why it would not end, or "".
-std::string walk(std::ifstream& in, std::uint64_t at, std::uint64_t file_size, std::size_t lengths) {
+// (H5HG__cache_heap_deserialize); returns why it would not end, or "". With
+// objects, records each object's index and size (and *objects stays empty
+// when there is no sound collection at that byte).
+std::string walk(std::ifstream& in, std::uint64_t at, std::uint64_t file_size, std::size_t lengths,
+                 std::map<std::uint64_t, std::uint64_t>* objects = nullptr) {
   const std::size_t header = 8 + lengths, object_header = 8 + lengths;
   std::vector<unsigned char> h(header);
   in.clear();
@@ -85,9 +89,12 @@ std::string walk(std::ifstream& in, std::uint64_t at, std::uint64_t file_size, s
     // libhdf5 steps by the free space's size as stored, or by the padded size of an object;
     // a step past the end makes it read outside the collection.
     const std::uint64_t step = object > size ? size : index == 0 ? object : object_header + ((object + 7) / 8) * 8;
-    if (object > size || step > size - p)
+    if (object > size || step > size - p) {
+      if (objects) objects->clear();
       return "object " + std::to_string(index) + where + " declares " + std::to_string(object) +
              " bytes, past the collection's end";
+    }
+    if (objects && index != 0) (*objects)[index] = object;
     p += step;
   }
   return "";
@@ -108,6 +115,42 @@ void check_global_heaps(const std::filesystem::path& path, const std::string& na
     if (!why.empty())
       throw InputError(name, "damaged HDF5 file: the global heap collection at byte " + std::to_string(at) +
                                  " (variable-length strings) is corrupt: " + why);
+  }
+}
+
+void check_string_references(const std::filesystem::path& path, const std::string& name, const std::string& dataset,
+                             const StringReferences& refs) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) return;
+  in.seekg(0, std::ios::end);
+  const auto end = in.tellg();
+  if (end <= 0) return;
+  const auto file_size = static_cast<std::uint64_t>(end);
+  const std::size_t lengths = size_of_lengths(in);
+  // Each element: the string's length (4 bytes), its collection's address, the object's index (4 bytes).
+  const std::size_t element = 4 + refs.address_size + 4;
+  const std::uint64_t at = refs.base + refs.offset;
+  if (refs.count == 0) return;
+  if (at > file_size || refs.count > (file_size - at) / element)
+    throw InputError(name, "damaged HDF5 file: /" + dataset + " holds " + std::to_string(refs.count) +
+                               " strings, more than the file's bytes after byte " + std::to_string(at));
+  std::vector<unsigned char> raw(refs.count * element);
+  in.seekg(static_cast<std::streamoff>(at));
+  if (!in.read(reinterpret_cast<char*>(raw.data()), static_cast<std::streamsize>(raw.size()))) return;
+  std::map<std::uint64_t, std::map<std::uint64_t, std::uint64_t>> collections;
+  for (std::uint64_t i = 0; i < refs.count; ++i) {
+    const unsigned char* e = raw.data() + i * element;
+    const std::uint64_t length = little_endian(e, 4), address = little_endian(e + 4, refs.address_size),
+                        index = little_endian(e + 4 + refs.address_size, 4);
+    if (length == 0) continue;  // an empty string: the library reads no heap
+    auto [it, fresh] = collections.try_emplace(address);
+    if (fresh && address <= file_size - refs.base) walk(in, refs.base + address, file_size, lengths, &it->second);
+    const auto object = it->second.find(index);
+    if (object == it->second.end() || object->second > length)
+      throw InputError(name, "damaged HDF5 file: string " + std::to_string(i) + " of /" + dataset +
+                                 " refers to object " + std::to_string(index) + " of a global heap collection at byte " +
+                                 std::to_string(refs.base + address) + " that does not hold it" +
+                                 (object == it->second.end() ? "" : " (the object is longer than the string)"));
   }
 }
 

@@ -2,6 +2,8 @@
 // A check of an HDF5 file's global heap collections (where variable-length
 // strings live) before libhdf5 reads them: libhdf5 1.10 loops forever on a
 // damaged collection whose object list does not move forward.
+#include <cstddef>
+#include <cstdint>
 #include <filesystem>
 #include <string>
 
@@ -10,5 +12,20 @@ namespace stallscope::h5 {
 // Throws InputError(name, ...) when a collection in the file at path would
 // stop libhdf5 1.10 in an endless loop; does nothing for a sound file.
 void check_global_heaps(const std::filesystem::path& path, const std::string& name);
+
+// Where a dataset of variable-length strings keeps its raw elements (heap ids).
+struct StringReferences {
+  std::uint64_t base = 0;    // the file's base address (its user block)
+  std::uint64_t offset = 0;  // the raw data's address, from base
+  std::uint64_t count = 0;   // elements
+  std::size_t address_size = 8;
+};
+
+// libhdf5 1.10 reads a heap object by its index without checking that the
+// collection holds it (H5HG_read), and segfaults on a damaged id. Throws
+// InputError(name, ...) naming dataset when an element refers to an object
+// that is not in its collection or is longer than the string.
+void check_string_references(const std::filesystem::path& path, const std::string& name, const std::string& dataset,
+                             const StringReferences& refs);
 
 }  // namespace stallscope::h5

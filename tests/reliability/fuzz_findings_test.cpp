@@ -6,6 +6,7 @@
 
 #include "calib/lines/lines_file.hpp"
 #include "calib/transducers/calibration_file.hpp"
+#include "pipeline/archive.hpp"
 #include "pipeline/errors.hpp"
 #include "pipeline/hdf5.hpp"
 #include "pipeline/hdf5_heap_check.hpp"
@@ -88,6 +89,26 @@ TEST(FuzzFinding, DamagedGlobalHeapIsRefusedBeforeLibhdf5CanLoopOnIt) {
   const std::string e = input_error([&] { h5::check_global_heaps(file, "archive.h5"); });
   EXPECT_NE(e.find("archive.h5: damaged HDF5 file: the global heap collection at byte 2048"), std::string::npos) << e;
   EXPECT_NE(input_error([&] { h5::File::open_read(file); }).find("global heap"), std::string::npos);
+}
+
+// fuzz_archive_bytes: the /provenance attribute "host" holds 1 byte where its
+// variable-length string needs 16; libhdf5 1.10 read past its buffer in H5Aread.
+TEST(FuzzFinding, AnAttributeShorterThanItsTypeIsUnreadableNotReadPastItsEnd) {
+  const auto file = kFindings / "libhdf5_short_attribute_archive.h5";
+  h5::File f = h5::File::open_read(file);
+  EXPECT_FALSE(h5::read_attribute(f.id(), "provenance", "host").has_value());
+  const auto version = h5::read_attribute(f.id(), "provenance", "tool_version");
+  ASSERT_TRUE(version.has_value());
+  EXPECT_TRUE(std::holds_alternative<std::string>(*version));
+}
+
+// fuzz_archive_bytes: a text column's heap id names an object its collection
+// does not hold; libhdf5 1.10 indexed past its object table in H5HG_read.
+TEST(FuzzFinding, AStringWhoseHeapObjectIsMissingIsRefusedBeforeLibhdf5ReadsIt) {
+  const auto file = kFindings / "libhdf5_global_heap_index_segv_archive.h5";
+  const std::string e = input_error([&] { (void)read_archive(file); });
+  EXPECT_NE(e.find("libhdf5_global_heap_index_segv_archive.h5: damaged HDF5 file: string "), std::string::npos) << e;
+  EXPECT_NE(e.find("global heap collection at byte"), std::string::npos) << e;
 }
 
 std::string patched(const std::string& bytes, std::size_t at, std::uint64_t value, std::size_t width) {

@@ -19,7 +19,7 @@ packages=(
   libopenmpi-dev openmpi-bin
   python3 python3-numpy python3-scipy python3-h5py python3-pil
   chromium fonts-dejavu-core
-  clang libclang-rt-14-dev libomp-14-dev
+  clang libclang-rt-14-dev libomp-14-dev lld
 )
 
 missing=()

@@ -94,6 +94,10 @@ int refit_archives(const RefitRequest& request, std::ostream& out) {
                          interval(fit.bootstrap.tau1_ci[0], fit.bootstrap.tau1_ci[1]), fit.main.tau2,
                          interval(fit.bootstrap.tau2_ci[0], fit.bootstrap.tau2_ci[1]), loops.reduced_frequency,
                          loops.alpha_mean_deg, fit.main.reason.empty() ? "" : " -- " + fit.main.reason);
+    if (fit.main.vortex_lift)
+      out << fmt::format("  vortex lift: T_v = {:.3f} c/U {}, T_vl = {:.3f} c/U {}\n", fit.main.t_v,
+                         interval(fit.bootstrap.t_v_ci[0], fit.bootstrap.t_v_ci[1]), fit.main.t_vl,
+                         interval(fit.bootstrap.t_vl_ci[0], fit.bootstrap.t_vl_ci[1]));
     else
       out << "not fitted: " << fit.main.reason << "\n";
     runs.push_back({std::move(loops), std::move(curve), std::move(fit)});

@@ -206,9 +206,14 @@ RunFit fit_run(const RunLoops& r, const StaticSeparation& curve, const StaticPol
   out.main = fit_loop(r.alpha_deg, r.cn, r.window, r.period_s, r.flow, curve, o.fit, nullptr, r.onset_deg);
   if (r.alpha_deg.allFinite() && r.alpha_deg.size() >= 8)
     out.cn_static = LoopModel(r.alpha_deg, r.period_s, r.flow, curve).static_normal_force();
+  // With the vortex term the per-cycle and sensitivity fits start from the
+  // phase average's (its basin), as the bootstrap does: a 4-D grid start for
+  // each would cost about ten times the whole plain fit. The plain fit keeps
+  // its own grid start for each.
+  const LoopFit* start = out.main.vortex_lift ? &out.main : nullptr;
   for (Eigen::Index c = 0; c < r.cycle_cn.cols(); ++c)
     out.cycles.push_back(fit_loop(r.cycle_alpha_deg.col(c), r.cycle_cn.col(c), r.cycle_windows[static_cast<std::size_t>(c)],
-                                  r.period_s, r.flow, curve, o.fit, nullptr,
+                                  r.period_s, r.flow, curve, o.fit, start,
                                   r.cycle_onset_deg[static_cast<std::size_t>(c)]));
   for (auto& f : out.cycles) {
     f.x_fitted.resize(0);
@@ -244,7 +249,7 @@ RunFit fit_run(const RunLoops& r, const StaticSeparation& curve, const StaticPol
     FitOptions fo = o.fit;
     fo.lag = v.lag;
     const StaticSeparation other = StaticSeparation::from_polar(polar.alpha_deg, polar.cn, v.curve);
-    LoopFit f = fit_loop(r.alpha_deg, r.cn, r.window, r.period_s, r.flow, other, fo, nullptr, r.onset_deg);  // own grid start
+    LoopFit f = fit_loop(r.alpha_deg, r.cn, r.window, r.period_s, r.flow, other, fo, start, r.onset_deg);
     f.x_fitted.resize(0);
     f.cn_fitted.resize(0);
     f.cn_vortex.resize(0);

@@ -3,6 +3,7 @@
 #include <fmt/format.h>
 
 #include <algorithm>
+#include <optional>
 #include <random>
 
 #include "stages/fit/least_squares.hpp"
@@ -16,6 +17,7 @@ struct Member {
   const CampaignRun* run;
   std::unique_ptr<LoopModel> model;
   std::vector<Eigen::Index> used;
+  std::optional<VortexLiftTerm> vortex;  // the run's own fitted vortex lift, held fixed: only tau1, tau2 are shared
 };
 
 LoopFit shared_least_squares(const std::vector<const Member*>& members, const FitOptions& o, const LoopFit* start) {
@@ -26,7 +28,8 @@ LoopFit shared_least_squares(const std::vector<const Member*>& members, const Fi
     Eigen::VectorXd r(static_cast<Eigen::Index>(total));
     Eigen::Index j = 0;
     for (const Member* m : members) {
-      const Eigen::VectorXd cn = m->model->normal_force({p[0], p[1]});
+      const Eigen::VectorXd cn =
+          m->vortex ? m->model->normal_force({p[0], p[1]}, *m->vortex) : m->model->normal_force({p[0], p[1]});
       for (Eigen::Index b : m->used) r[j++] = cn[b] - m->run->loops.cn[b];
     }
     return r;
@@ -53,7 +56,9 @@ SharedFit fit_shared(const std::deque<CampaignRun>& runs, const FitSettings& set
       left_out += (left_out.empty() ? "" : ", ") + r.loops.run;
       continue;
     }
-    Member m{&r, std::make_unique<LoopModel>(r.loops.alpha_deg, r.loops.period_s, r.loops.flow, r.curve, settings.fit.lag), {}};
+    Member m{&r, std::make_unique<LoopModel>(r.loops.alpha_deg, r.loops.period_s, r.loops.flow, r.curve, settings.fit.lag), {}, {}};
+    if (r.fit.main.vortex_lift)
+      m.vortex = VortexLiftTerm{r.fit.main.vortex_onset_conv, {r.fit.main.t_v, r.fit.main.t_vl}};
     for (Eigen::Index b = 0; b < r.loops.cn.size(); ++b)
       if (r.loops.window[static_cast<std::size_t>(b)] && std::isfinite(r.loops.cn[b])) m.used.push_back(b);
     members.push_back(std::move(m));
@@ -140,7 +145,7 @@ std::vector<Trend> constant_trends(const std::deque<CampaignRun>& runs) {
 
 Table campaign_table(const std::deque<CampaignRun>& runs, const SharedFit& shared) {
   std::vector<std::string> run, status, reason;
-  std::vector<double> k, am, t1, t2, t1lo, t1hi, t2lo, t2hi, corr, rms, t1s, t2s;
+  std::vector<double> k, am, t1, t2, t1lo, t1hi, t2lo, t2hi, corr, rms, t1s, t2s, tv, tvl;
   auto row = [&](const std::string& name, double kk, double a, const LoopFit& f, const BootstrapFit& b, double conv) {
     run.push_back(name);
     status.push_back(f.fitted ? "fitted" : "not_fitted");
@@ -157,6 +162,8 @@ Table campaign_table(const std::deque<CampaignRun>& runs, const SharedFit& share
     t2hi.push_back(b.tau2_ci[1]);
     corr.push_back(b.correlation);
     rms.push_back(f.rms_residual);
+    tv.push_back(f.t_v);
+    tvl.push_back(f.t_vl);
   };
   for (const CampaignRun& r : runs)
     row(r.loops.run, r.loops.reduced_frequency, r.loops.alpha_mean_deg, r.fit.main, r.fit.bootstrap,
@@ -178,6 +185,9 @@ Table campaign_table(const std::deque<CampaignRun>& runs, const SharedFit& share
       .add({"tau2_ci95_hi_conv", "1", t2hi})
       .add({"tau_correlation", "1", corr})
       .add({"rms_residual", "1", rms});
+  // Each run's own vortex-lift constants (not shared: the shared row has none).
+  if (std::any_of(runs.begin(), runs.end(), [](const CampaignRun& r) { return r.fit.main.vortex_lift; }))
+    t.add({"t_v_conv", "1", tv}).add({"t_vl_conv", "1", tvl});
   return t;
 }
 

@@ -5,6 +5,8 @@
 // and the trend of the per-run constants with reduced frequency and mean
 // angle (least-squares line, slope -+ t(0.975, n-2) se; none when the runs
 // span less than 0.005 in k or 0.5 deg in mean angle) -- are they constant?
+// Runs fitted with the vortex-lift term keep their own T_v, T_vl (and onset)
+// in the shared fit: only tau1 and tau2 are shared.
 #include <deque>
 #include <string>
 #include <vector>

@@ -89,13 +89,18 @@ int refit_archives(const RefitRequest& request, std::ostream& out) {
     put_fit(store, loops, curve, *polar, fit, settings);
     write_tables(store, request.output_directory / loops.run);
     out << fmt::format("{}: ", loops.run);
-    if (fit.main.fitted)
+    if (fit.main.fitted) {
       out << fmt::format("tau1 = {:.3f} c/U {}, tau2 = {:.3f} c/U {} (k = {:.3f}, mean {:.1f} deg){}\n", fit.main.tau1,
                          interval(fit.bootstrap.tau1_ci[0], fit.bootstrap.tau1_ci[1]), fit.main.tau2,
                          interval(fit.bootstrap.tau2_ci[0], fit.bootstrap.tau2_ci[1]), loops.reduced_frequency,
                          loops.alpha_mean_deg, fit.main.reason.empty() ? "" : " -- " + fit.main.reason);
-    else
+      if (fit.main.vortex_lift)
+        out << fmt::format("  vortex lift: T_v = {:.3f} c/U {}, T_vl = {:.3f} c/U {}\n", fit.main.t_v,
+                           interval(fit.bootstrap.t_v_ci[0], fit.bootstrap.t_v_ci[1]), fit.main.t_vl,
+                           interval(fit.bootstrap.t_vl_ci[0], fit.bootstrap.t_vl_ci[1]));
+    } else {
       out << "not fitted: " << fit.main.reason << "\n";
+    }
     runs.push_back({std::move(loops), std::move(curve), std::move(fit)});
   }
   if (runs.size() > 1) {

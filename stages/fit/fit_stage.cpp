@@ -40,7 +40,20 @@ void configure_fit_settings(ConfigSection& s, fit::FitSettings& o) {
   f.lag = s.choice("attached", {"theodorsen", "quasi_steady"}, "theodorsen") == "theodorsen"
               ? fit::AttachedLag::kTheodorsen
               : fit::AttachedLag::kQuasiSteady;
-  o.exclude = s.choice("exclude", {"vortex_lift", "stalled", "none"}, o.exclude);
+  // The Leishman-Beddoes vortex-lift term: with it the overshoot is modelled, so
+  // by default nothing is left out of the fit.
+  f.vortex_lift = s.boolean("vortex_lift", f.vortex_lift);
+  for (auto [key, bounds] : {std::pair{"t_v_bounds_conv", f.t_v_bounds}, std::pair{"t_vl_bounds_conv", f.t_vl_bounds}}) {
+    const auto v = s.numbers(key, {bounds[0], bounds[1]});
+    s.require(v.size() == 2 && v[0] > 0 && v[0] < v[1] && v[1] <= 1000, key,
+              "expected [lowest, highest] in convective times c/U, 0 < lowest < highest <= 1000");
+    bounds[0] = v[0];
+    bounds[1] = v[1];
+  }
+  f.vortex_grid_points = static_cast<int>(s.integer("vortex_grid_points", f.vortex_grid_points));
+  s.require(f.vortex_grid_points >= 2 && f.vortex_grid_points <= 51, "vortex_grid_points",
+            "expected 2 to 51 start points per vortex-lift constant");
+  o.exclude = s.choice("exclude", {"vortex_lift", "stalled", "none"}, f.vortex_lift ? "none" : o.exclude);
   o.vortex_lift_conv = s.number("vortex_lift_conv", o.vortex_lift_conv);
   s.require(o.vortex_lift_conv >= 0 && o.vortex_lift_conv < 100, "vortex_lift_conv",
             "expected convective times from 0 to 100");

@@ -3,6 +3,8 @@
 // c/U and seconds) from its phase-averaged Cn loop and a static polar, with
 // per-cycle fits, a bootstrap over cycles, the sensitivity to x0 and the
 // attached lag, and the exports other semi-empirical fits use (see run_fit.hpp).
+// vortex_lift = true adds the Leishman-Beddoes vortex-lift term and fits its
+// T_v and T_vl (t_v_bounds_conv, t_vl_bounds_conv) over the whole loop.
 // The static polar: this run's static_polar stage, static_polar_archive (a
 // reduced static run) or static_polar_csv (alpha_deg, cn). A loop that never
 // stalls is stored as not fitted, with the reason.

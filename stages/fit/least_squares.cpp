@@ -76,21 +76,33 @@ LeastSquaresResult bounded_least_squares(const Residuals& r, const Eigen::Vector
 
 LeastSquaresResult grid_started_least_squares(const Residuals& r, const Box& box, int grid_points,
                                               int max_iterations) {
+  return grid_started_least_squares(r, box, std::vector<int>(static_cast<std::size_t>(box.lower.size()), grid_points),
+                                    max_iterations);
+}
+
+LeastSquaresResult grid_started_least_squares(const Residuals& r, const Box& box, const std::vector<int>& grid_points,
+                                              int max_iterations) {
   const Eigen::Index n = box.lower.size();
-  if (grid_points < 2) throw std::invalid_argument("grid_started_least_squares: needs 2 or more grid points");
+  if (grid_points.size() != static_cast<std::size_t>(n))
+    throw std::invalid_argument("grid_started_least_squares: one grid size per parameter");
+  for (int g : grid_points)
+    if (g < 2) throw std::invalid_argument("grid_started_least_squares: needs 2 or more grid points");
   Eigen::VectorXd best = box.lower, p(n);
   double best_cost = std::numeric_limits<double>::infinity();
   std::vector<int> index(static_cast<std::size_t>(n), 0);
   while (true) {
-    for (Eigen::Index k = 0; k < n; ++k)
-      p[k] = box.lower[k] + (box.upper[k] - box.lower[k]) * index[static_cast<std::size_t>(k)] / (grid_points - 1);
+    for (Eigen::Index k = 0; k < n; ++k) {
+      const auto j = static_cast<std::size_t>(k);
+      p[k] = box.lower[k] + (box.upper[k] - box.lower[k]) * index[j] / (grid_points[j] - 1);
+    }
     const double c = sum_of_squares(r(p));
     if (c < best_cost) {
       best_cost = c;
       best = p;
     }
     Eigen::Index k = 0;
-    while (k < n && ++index[static_cast<std::size_t>(k)] == grid_points) index[static_cast<std::size_t>(k++)] = 0;
+    while (k < n && ++index[static_cast<std::size_t>(k)] == grid_points[static_cast<std::size_t>(k)])
+      index[static_cast<std::size_t>(k++)] = 0;
     if (k == n) break;
   }
   return bounded_least_squares(r, best, box, max_iterations);

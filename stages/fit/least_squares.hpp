@@ -5,6 +5,7 @@
 // so that a loop with several local minima starts in the right basin.
 #include <Eigen/Core>
 #include <functional>
+#include <vector>
 
 namespace stallscope::fit {
 
@@ -29,6 +30,9 @@ LeastSquaresResult bounded_least_squares(const Residuals& r, const Eigen::Vector
 
 // The best of a uniform grid (points per parameter) over the box, then refined.
 LeastSquaresResult grid_started_least_squares(const Residuals& r, const Box& box, int grid_points,
+                                              int max_iterations = 100);
+// The same with its own number of grid points for each parameter.
+LeastSquaresResult grid_started_least_squares(const Residuals& r, const Box& box, const std::vector<int>& grid_points,
                                               int max_iterations = 100);
 
 double sum_of_squares(const Eigen::VectorXd& r);

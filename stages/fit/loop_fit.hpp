@@ -3,7 +3,9 @@
 // loops: one loop by bounded least squares over a fit window, and the
 // uncertainty from the cycles -- each cycle's own fit, and a bootstrap over
 // cycles (resample cycles with replacement, average their loops, refit;
-// Efron & Tibshirani 1993, ch. 13, percentile intervals).
+// Efron & Tibshirani 1993, ch. 13, percentile intervals). With vortex_lift the
+// Leishman-Beddoes vortex term (vortex_lift.hpp) is fitted as well: T_v and
+// T_vl beside tau1 and tau2, from the loop's stall onset.
 #include <Eigen/Core>
 #include <cstdint>
 #include <string>
@@ -20,6 +22,10 @@ struct FitOptions {
   double min_separation_drop = 0.2;     // the loop must take x0 below 1 - this, else it never stalls
   int min_window_points = 8;
   AttachedLag lag = AttachedLag::kTheodorsen;
+  bool vortex_lift = false;             // fit the vortex-lift term too
+  double t_v_bounds[2] = {0.2, 12.0};   // c/U: decay time constant T_v
+  double t_vl_bounds[2] = {0.2, 12.0};  // c/U: time on the chord after onset T_vl
+  int vortex_grid_points = 7;           // start: (T_v, T_vl) on a grid of this^2, after (tau1, tau2) on theirs
 };
 
 struct LoopFit {
@@ -29,12 +35,18 @@ struct LoopFit {
   double rms_residual = NAN;   // over the window
   std::int64_t points = 0;
   Eigen::VectorXd cn_fitted, x_fitted;  // over the whole loop
+  // The vortex-lift term, when fitted: its constants (c/U), its onset and its share of cn_fitted.
+  bool vortex_lift = false;
+  double t_v = NAN, t_vl = NAN, vortex_onset_conv = NAN;
+  Eigen::VectorXd cn_vortex;
 };
 
-// in_window: the bins fitted (false for the excluded stretch).
+// in_window: the bins fitted (false for the excluded stretch). onset_phase_deg:
+// the loop's stall onset, where the vortex-lift term starts; without one (NaN)
+// a vortex_lift fit falls back to the plain model and says so in the reason.
 LoopFit fit_loop(const Eigen::VectorXd& alpha_deg, const Eigen::VectorXd& cn, const std::vector<bool>& in_window,
                  double period_s, const FlowScales& flow, const StaticSeparation& x0, const FitOptions& options,
-                 const LoopFit* start = nullptr);
+                 const LoopFit* start = nullptr, double onset_phase_deg = NAN);
 
 struct BootstrapFit {
   std::vector<double> tau1, tau2;  // fitted resamples only
@@ -44,6 +56,11 @@ struct BootstrapFit {
   double percentile_tau1[2] = {NAN, NAN}, percentile_tau2[2] = {NAN, NAN};  // 2.5 and 97.5 percentiles
   double correlation = NAN;
   std::string note;
+  // The vortex-lift constants of the same resamples (empty without the term).
+  std::vector<double> t_v, t_vl;
+  double t_v_ci[2] = {NAN, NAN}, t_vl_ci[2] = {NAN, NAN};
+  double t_v_se = NAN, t_vl_se = NAN;
+  double percentile_t_v[2] = {NAN, NAN}, percentile_t_vl[2] = {NAN, NAN};
 };
 
 // The interval is the centre fit -+ t(0.975, n-1) sqrt(n/(n-1)) se: the
@@ -54,7 +71,8 @@ struct BootstrapFit {
 BootstrapFit bootstrap_over_cycles(const Eigen::MatrixXd& alpha_deg, const Eigen::MatrixXd& cn,
                                    const std::vector<bool>& in_window, double period_s, const FlowScales& flow,
                                    const StaticSeparation& x0, const FitOptions& options, const LoopFit& centre,
-                                   std::int64_t resamples, std::uint64_t seed, int threads = 1);
+                                   std::int64_t resamples, std::uint64_t seed, int threads = 1,
+                                   double onset_phase_deg = NAN);
 
 // Intervals, standard errors and correlation from out.tau1/tau2 about the
 // centre fit, for resamples of `units` independent units (cycles or runs).

@@ -83,6 +83,20 @@ Eigen::VectorXd LoopModel::normal_force(const theory::GomanKhrabrovTimes& tau, E
   return cn;
 }
 
+Eigen::VectorXd LoopModel::normal_force(const theory::GomanKhrabrovTimes& tau, const VortexLiftTerm& vortex,
+                                        Eigen::VectorXd* x_out, Eigen::VectorXd* cn_vortex) const {
+  Eigen::VectorXd x;
+  Eigen::VectorXd cn = normal_force(tau, &x);
+  const double slope = x0_->lift_slope_per_rad();
+  Eigen::VectorXd shed(x.size());
+  for (Eigen::Index b = 0; b < x.size(); ++b) shed[b] = shed_vortex_force(slope * attached_[b], x[b]);
+  const Eigen::VectorXd cn_v = periodic_vortex_lift(t_, shed, period_, vortex.onset_conv, vortex.times);
+  cn += cn_v;
+  if (x_out) *x_out = std::move(x);
+  if (cn_vortex) *cn_vortex = cn_v;
+  return cn;
+}
+
 Eigen::VectorXd LoopModel::static_normal_force() const {
   Eigen::VectorXd cn(alpha_.size());
   for (Eigen::Index b = 0; b < alpha_.size(); ++b) cn[b] = x0_->normal_force(alpha_[b], (*x0_)(alpha_[b]));

@@ -9,10 +9,13 @@
 // and pi(i nk + a (nk)^2) (apparent mass), exact for any periodic motion. The
 // state follows the geometric alpha (as the published model), and x is the
 // periodic steady state (theory::periodic_goman_khrabrov). alpha_dot is the
-// periodic central difference of the samples.
+// periodic central difference of the samples. Optionally the Leishman-Beddoes
+// vortex lift is added (vortex_lift.hpp), fed by the attached circulatory Cn
+// the separation x takes away.
 #include <Eigen/Core>
 
 #include "stages/fit/static_separation.hpp"
+#include "stages/fit/vortex_lift.hpp"
 #include "stages/theory/goman_khrabrov.hpp"
 
 namespace stallscope::fit {
@@ -24,6 +27,13 @@ struct FlowScales {
   double convective_s() const { return chord_m / velocity_m_s; }  // c/U
 };
 
+// The vortex-lift term of one loop: its onset (c/U from the loop's start,
+// phase / 360 x period) and its time constants.
+struct VortexLiftTerm {
+  double onset_conv = 0.0;
+  VortexLiftTimes times;
+};
+
 class LoopModel {
  public:
   // alpha_deg: one period at phases (b + 1/2)/N of period_s. Throws
@@ -33,6 +43,9 @@ class LoopModel {
 
   // Cn and, if asked, x for times in convective units.
   Eigen::VectorXd normal_force(const theory::GomanKhrabrovTimes& tau_conv, Eigen::VectorXd* x = nullptr) const;
+  // The same plus the vortex lift, whose own share goes to cn_vortex if asked.
+  Eigen::VectorXd normal_force(const theory::GomanKhrabrovTimes& tau_conv, const VortexLiftTerm& vortex,
+                               Eigen::VectorXd* x = nullptr, Eigen::VectorXd* cn_vortex = nullptr) const;
   // Cn of the static curve at the same angles: Kirchhoff with x0(alpha), quasi-steady.
   Eigen::VectorXd static_normal_force() const;
 

@@ -177,8 +177,11 @@ RunLoops read_run_loops(const RunStore& s, const FitSettings& o) {
     if (!std::isfinite(te)) te = mean_phase(e);
   const double onset = mean_phase("stall_onset"), reattach = mean_phase("reattachment");
   const Exclusion main = exclusion(o, onset, te, reattach, deg_per_conv);
+  r.onset_deg = onset;
   r.window = window_mask(r.phase_deg, main);
-  if (o.exclude == "none") r.window_note = "the whole loop (exclude = \"none\")";
+  if (o.exclude == "none")
+    r.window_note = o.fit.vortex_lift ? "the whole loop (exclude = \"none\"; the vortex lift is modelled)"
+                                      : "the whole loop (exclude = \"none\")";
   else if (!std::isfinite(onset))
     r.window_note = "the whole loop: no stall onset among the events (is [events] enabled?)";
   else
@@ -189,6 +192,7 @@ RunLoops read_run_loops(const RunStore& s, const FitSettings& o) {
     for (const char* e : kTeEvents)
       if (!std::isfinite(cte)) cte = lookup(phases, e, id, kNaN);
     const double conset = lookup(phases, "stall_onset", id, onset);
+    r.cycle_onset_deg.push_back(conset);
     r.cycle_windows.push_back(window_mask(
         r.phase_deg, exclusion(o, conset, std::isfinite(cte) ? cte : te, lookup(phases, "reattachment", id, reattach),
                                deg_per_conv)));
@@ -199,16 +203,25 @@ RunLoops read_run_loops(const RunStore& s, const FitSettings& o) {
 RunFit fit_run(const RunLoops& r, const StaticSeparation& curve, const StaticPolarPoints& polar,
                const FitSettings& o, int threads) {
   RunFit out;
-  out.main = fit_loop(r.alpha_deg, r.cn, r.window, r.period_s, r.flow, curve, o.fit);
+  out.main = fit_loop(r.alpha_deg, r.cn, r.window, r.period_s, r.flow, curve, o.fit, nullptr, r.onset_deg);
   if (r.alpha_deg.allFinite() && r.alpha_deg.size() >= 8)
     out.cn_static = LoopModel(r.alpha_deg, r.period_s, r.flow, curve).static_normal_force();
+  // With the vortex term the per-cycle and sensitivity fits start from the
+  // phase average's (its basin), as the bootstrap does: a 4-D grid start for
+  // each would cost about ten times the whole plain fit. The plain fit keeps
+  // its own grid start for each.
+  const LoopFit* start = out.main.vortex_lift ? &out.main : nullptr;
   for (Eigen::Index c = 0; c < r.cycle_cn.cols(); ++c)
     out.cycles.push_back(fit_loop(r.cycle_alpha_deg.col(c), r.cycle_cn.col(c), r.cycle_windows[static_cast<std::size_t>(c)],
-                                  r.period_s, r.flow, curve, o.fit));
-  for (auto& f : out.cycles) f.x_fitted.resize(0);
+                                  r.period_s, r.flow, curve, o.fit, start,
+                                  r.cycle_onset_deg[static_cast<std::size_t>(c)]));
+  for (auto& f : out.cycles) {
+    f.x_fitted.resize(0);
+    f.cn_vortex.resize(0);
+  }
   if (o.bootstrap_resamples > 0)
     out.bootstrap = bootstrap_over_cycles(r.cycle_alpha_deg, r.cycle_cn, r.window, r.period_s, r.flow, curve, o.fit,
-                                          out.main, o.bootstrap_resamples, o.bootstrap_seed, threads);
+                                          out.main, o.bootstrap_resamples, o.bootstrap_seed, threads, r.onset_deg);
   if (!o.sensitivity || !out.main.fitted) return out;
   struct Variant {
     std::string name;
@@ -236,9 +249,10 @@ RunFit fit_run(const RunLoops& r, const StaticSeparation& curve, const StaticPol
     FitOptions fo = o.fit;
     fo.lag = v.lag;
     const StaticSeparation other = StaticSeparation::from_polar(polar.alpha_deg, polar.cn, v.curve);
-    LoopFit f = fit_loop(r.alpha_deg, r.cn, r.window, r.period_s, r.flow, other, fo);  // own grid start
+    LoopFit f = fit_loop(r.alpha_deg, r.cn, r.window, r.period_s, r.flow, other, fo, start, r.onset_deg);
     f.x_fitted.resize(0);
     f.cn_fitted.resize(0);
+    f.cn_vortex.resize(0);
     out.sensitivity.push_back({v.name, std::move(f)});
   }
   return out;
@@ -252,7 +266,22 @@ void put_fit(RunStore& s, const RunLoops& r, const StaticSeparation& curve, cons
     std::vector<std::string> estimate, kind, status, reason;
     std::vector<double> t1, t2, t1s, t2s, t1lo, t1hi, t2lo, t2hi, t1los, t1his, t2los, t2his, corr, rms;
     std::vector<std::int64_t> points;
+    // The vortex-lift constants (columns only with the term, so a plain fit's table is as before).
+    std::vector<double> tv, tvl, tvs, tvls, tvlo, tvhi, tvllo, tvlhi, tvlos, tvhis, tvllos, tvlhis;
     auto row = [&](const std::string& e, const std::string& k, const LoopFit& f, const BootstrapFit* b) {
+      const double none = kNaN;
+      tv.push_back(f.t_v);
+      tvl.push_back(f.t_vl);
+      tvs.push_back(f.t_v * conv);
+      tvls.push_back(f.t_vl * conv);
+      tvlo.push_back(b ? b->t_v_ci[0] : none);
+      tvhi.push_back(b ? b->t_v_ci[1] : none);
+      tvllo.push_back(b ? b->t_vl_ci[0] : none);
+      tvlhi.push_back(b ? b->t_vl_ci[1] : none);
+      tvlos.push_back(tvlo.back() * conv);
+      tvhis.push_back(tvhi.back() * conv);
+      tvllos.push_back(tvllo.back() * conv);
+      tvlhis.push_back(tvlhi.back() * conv);
       estimate.push_back(e);
       kind.push_back(k);
       status.push_back(f.fitted ? "fitted" : "not_fitted");
@@ -298,6 +327,19 @@ void put_fit(RunStore& s, const RunLoops& r, const StaticSeparation& curve, cons
         .add({"tau_correlation", "1", corr})
         .add({"rms_residual", "1", rms})
         .add({"points", "1", points});
+    if (o.fit.vortex_lift)
+      t.add({"t_v_conv", "1", tv})
+          .add({"t_vl_conv", "1", tvl})
+          .add({"t_v_s", "s", tvs})
+          .add({"t_vl_s", "s", tvls})
+          .add({"t_v_ci95_lo_conv", "1", tvlo})
+          .add({"t_v_ci95_hi_conv", "1", tvhi})
+          .add({"t_vl_ci95_lo_conv", "1", tvllo})
+          .add({"t_vl_ci95_hi_conv", "1", tvlhi})
+          .add({"t_v_ci95_lo_s", "s", tvlos})
+          .add({"t_v_ci95_hi_s", "s", tvhis})
+          .add({"t_vl_ci95_lo_s", "s", tvllos})
+          .add({"t_vl_ci95_hi_s", "s", tvlhis});
     // Per-cycle spread, as a second uncertainty beside the bootstrap.
     std::vector<double> c1, c2;
     for (const auto& f : fit.cycles)
@@ -338,6 +380,23 @@ void put_fit(RunStore& s, const RunLoops& r, const StaticSeparation& curve, cons
         {"tau1_bounds_conv", fmt::format("{} to {}", o.fit.tau1_bounds[0], o.fit.tau1_bounds[1])},
         {"tau2_bounds_conv", fmt::format("{} to {}", o.fit.tau2_bounds[0], o.fit.tau2_bounds[1])},
     };
+    if (o.fit.vortex_lift) {
+      const LoopFit& m = fit.main;
+      const BootstrapFit& b = fit.bootstrap;
+      a["model"] = std::get<std::string>(a["model"]) +
+                   "; plus the vortex lift of Leishman & Beddoes (1989): dCn_v/dt* = dC_v/dt* (for T_vl after stall "
+                   "onset) - Cn_v/T_v, C_v = Cn_attached (1 - ((1 + sqrt x)/2)^2)";
+      a["vortex_lift"] = std::string(m.vortex_lift ? "fitted" : "not fitted (no stall onset)");
+      a["t_v_conv"] = m.t_v;
+      a["t_vl_conv"] = m.t_vl;
+      a["t_v_s"] = m.t_v * conv;
+      a["t_vl_s"] = m.t_vl * conv;
+      a["t_v_ci95_conv"] = fmt::format("{:.4g} to {:.4g}", b.t_v_ci[0], b.t_v_ci[1]);
+      a["t_vl_ci95_conv"] = fmt::format("{:.4g} to {:.4g}", b.t_vl_ci[0], b.t_vl_ci[1]);
+      a["vortex_onset_phase_deg"] = r.onset_deg;
+      a["t_v_bounds_conv"] = fmt::format("{} to {}", o.fit.t_v_bounds[0], o.fit.t_v_bounds[1]);
+      a["t_vl_bounds_conv"] = fmt::format("{} to {}", o.fit.t_vl_bounds[0], o.fit.t_vl_bounds[1]);
+    }
     s.put("fit/summary", std::move(t), std::move(a));
   }
   // fit/loop: measured, static and fitted loops.
@@ -367,6 +426,12 @@ void put_fit(RunStore& s, const RunLoops& r, const StaticSeparation& curve, cons
         .add({"x0", "1", x0})
         .add({"in_window", "1", in})
         .add({"residual", "1", res});
+    if (o.fit.vortex_lift) {  // the fitted vortex lift's share of cn_fitted
+      std::vector<double> vortex(n, kNaN);
+      if (fit.main.cn_vortex.size() == n)
+        for (Eigen::Index b = 0; b < n; ++b) vortex[static_cast<std::size_t>(b)] = fit.main.cn_vortex[b];
+      t.add({"cn_vortex", "1", vortex});
+    }
     s.put("fit/loop", std::move(t), {{"csv", std::string("fit_loop.csv")}, {"fit_window", r.window_note}});
   }
   // fit/static_separation: f(alpha) for other semi-empirical fits; fit/static_polar: the points used.

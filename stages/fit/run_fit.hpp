@@ -12,6 +12,8 @@
 // convective times. exclude = "stalled" leaves out onset to reattachment;
 // "none" fits the whole loop. The phase-averaged loop uses the mean phases of
 // the events over valid cycles, each cycle its own (the mean where missing).
+// With fit.vortex_lift the overshoot is modelled (Leishman-Beddoes vortex lift
+// from the same stall onset), so the default window is then "none".
 #include <cstdint>
 #include <string>
 #include <vector>
@@ -48,6 +50,8 @@ struct RunLoops {
   std::vector<bool> window;                          // phase average
   std::vector<std::vector<bool>> cycle_windows;
   std::string window_note;
+  double onset_deg = NAN;                 // stall onset phase (phase average; NaN: none among the events)
+  std::vector<double> cycle_onset_deg;    // each cycle's own (the mean where missing)
 };
 
 // Throws InputError naming the store key when the run lacks a loop.

@@ -35,7 +35,11 @@ class AppendableDataset {
   hid_t id() const { return dataset_.get(); }
 
  private:
+  static constexpr int kChunksPerOpen = 1024;
   h5::Id dataset_;
+  hid_t file_ = -1;
+  std::string path_;
+  int chunks_since_open_ = 0;
   ElementType type_;
   std::vector<hsize_t> row_shape_;
   hsize_t row_elements_ = 1;

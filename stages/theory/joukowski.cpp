@@ -86,6 +86,15 @@ double joukowski_surface_cp(const JoukowskiGeometry& g, double alpha, double the
   return 1.0 - ratio * ratio;
 }
 
+JoukowskiStation joukowski_station(const JoukowskiGeometry& g, double theta) {
+  const Complex zeta = circle_point(g, theta);
+  const double h = 0.5 * (theta - g.beta);
+  JoukowskiStation s{0.0, std::cos(h), std::sin(h)};
+  s.k = g.airfoil.epsilon == 0.0 ? std::norm(zeta) / (s.cos_h * g.radius * g.radius)
+                                 : 2.0 * std::norm(zeta) / (g.radius * std::abs(zeta + g.airfoil.a));
+  return s;
+}
+
 JoukowskiSurfacePoint joukowski_surface_point(const JoukowskiGeometry& g, double alpha, double theta) {
   const Complex z = map(g, circle_point(g, theta));
   const Complex dz = map_tangent(g, theta);

@@ -42,6 +42,18 @@ double joukowski_lift_coefficient(const JoukowskiGeometry& g, double alpha);
 // 0/0 at the trailing edge: |w|/U = 2|cos((theta - 2 alpha - beta)/2)| |zeta|^2 / (R |zeta + a|).
 double joukowski_surface_cp(const JoukowskiGeometry& g, double alpha, double theta);
 
+// The incidence-free part of that Cp at one circle angle, so that Cp at many
+// incidences costs a few multiplications (a synthetic run solves it for every
+// station at every sample): |w|/U = k cos(h - alpha) with h = (theta - beta)/2.
+struct JoukowskiStation {
+  double k = 0.0, cos_h = 1.0, sin_h = 0.0;
+};
+JoukowskiStation joukowski_station(const JoukowskiGeometry& g, double theta);
+inline double joukowski_surface_cp(const JoukowskiStation& s, double cos_alpha, double sin_alpha) {
+  const double ratio = s.k * (s.cos_h * cos_alpha + s.sin_h * sin_alpha);
+  return 1.0 - ratio * ratio;
+}
+
 struct JoukowskiSurfacePoint {
   double x_over_c = 0.0;
   double y_over_c = 0.0;

@@ -99,6 +99,25 @@ TEST(Joukowski, TrailingEdgePressureIsFiniteAndStagnationIsOne) {
   EXPECT_NEAR(joukowski_surface_cp(g, alpha, kPi + 2 * alpha + g.beta), 1.0, 1e-15);
 }
 
+TEST(Joukowski, PrecomputedStationsGiveTheSameCpAtEveryIncidence) {
+  // A symmetric section, a cambered one and the circular arc (epsilon = 0, its
+  // own branch), away from the arc's leading edge where both are 0/0.
+  for (const JoukowskiAirfoil f : {JoukowskiAirfoil{1.0, 0.1, 0.0}, JoukowskiAirfoil{1.0, 0.08, 0.05},
+                                   JoukowskiAirfoil{1.0, 0.0, 0.04}}) {
+    const JoukowskiGeometry g = make_joukowski(f);
+    for (double theta = -g.beta + 0.013; theta < 2 * kPi - g.beta; theta += 0.1) {
+      if (f.epsilon == 0.0 && std::abs(std::cos(0.5 * (theta - g.beta))) < 1e-3) continue;
+      const JoukowskiStation st = joukowski_station(g, theta);
+      for (double alpha = -10 * kDeg; alpha <= 25 * kDeg; alpha += 2.5 * kDeg) {
+        const double direct = joukowski_surface_cp(g, alpha, theta);
+        EXPECT_NEAR(joukowski_surface_cp(st, std::cos(alpha), std::sin(alpha)), direct,
+                    1e-12 * std::max(1.0, std::abs(direct)))
+            << "theta " << theta << " alpha " << alpha;
+      }
+    }
+  }
+}
+
 TEST(Joukowski, SurfacePointsRunFromLeadingEdgeToTrailingEdgeInTheChordFrame) {
   const JoukowskiGeometry g = make_joukowski({1.0, 0.1, 0.0});
   const JoukowskiSurfacePoint te = joukowski_surface_point(g, 0, -g.beta);

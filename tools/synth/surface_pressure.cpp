@@ -76,6 +76,7 @@ SurfaceStation SurfacePressure::station(double mean_x, bool upper) const {
   const int j = std::min(kThetaTable - 1, static_cast<int>(u));
   const double theta_upper = theta_table_[j] + (u - j) * (theta_table_[j + 1] - theta_table_[j]);
   p.theta = upper ? theta_upper : -theta_upper;
+  p.joukowski = theory::joukowski_station(joukowski_, p.theta);
   const double e = std::sqrt(p.mean_x * (1.0 - p.mean_x));
   p.ellipse = e;
   p.ellipse_moment = e * (p.mean_x - 0.5);
@@ -84,7 +85,7 @@ SurfaceStation SurfacePressure::station(double mean_x, bool upper) const {
 
 double SurfacePressure::attached_cp(const SurfaceStation& p, const Loading& l) const {
   const double load = l.apparent * p.ellipse + l.moment * p.ellipse_moment;
-  const double cp = theory::joukowski_surface_cp(joukowski_, l.alpha_j, p.theta);
+  const double cp = theory::joukowski_surface_cp(p.joukowski, l.cos_alpha_j, l.sin_alpha_j);
   return p.upper ? cp - 0.5 * load : cp + 0.5 * load;
 }
 
@@ -115,8 +116,10 @@ SurfacePressure::Loading SurfacePressure::solve_loading(const FlowSample& s) {
   // Cn(alpha_J) - target, with the moment fix that keeps the attached Cm_c/4 at Theodorsen's.
   auto residual = [&](double alpha_j) {
     l.alpha_j = alpha_j;
+    l.cos_alpha_j = std::cos(alpha_j);
+    l.sin_alpha_j = std::sin(alpha_j);
     for (std::size_t i = 0; i < fine_.size(); ++i)
-      cp[i] = theory::joukowski_surface_cp(joukowski_, alpha_j, fine_[i].theta);
+      cp[i] = theory::joukowski_surface_cp(fine_[i].joukowski, l.cos_alpha_j, l.sin_alpha_j);
     l.moment = s.cm_noncirculatory - integrate(cp, 0.0).cm_quarter_chord;
     l.plateau = upper_plateau(l);
     double cn = 0.0;

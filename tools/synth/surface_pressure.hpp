@@ -30,6 +30,7 @@ struct SurfaceStation {
   bool upper = true;
   double mean_x = 0.0;      // mean-line station (where the loading shapes are evaluated)
   double theta = 0.0;       // Joukowski circle angle of the same x/c and surface
+  theory::JoukowskiStation joukowski;  // its Cp's incidence-free part
   double ellipse = 0.0, ellipse_moment = 0.0;
 };
 
@@ -54,6 +55,7 @@ class SurfacePressure {
  private:
   struct Loading {
     double alpha_j = 0.0;          // Joukowski angle, rad
+    double cos_alpha_j = 1.0, sin_alpha_j = 0.0;
     double apparent = 0.0;         // Cn of the ellipse loading
     double moment = 0.0;           // Cm (c/4) of the moment-only loading
     double separation = 1.0;

@@ -16,6 +16,37 @@ namespace {
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 
+// One fitted time constant as the summary's six columns: in c/U and in
+// seconds, with the ends of its 95 % interval in both (NaN where none).
+struct ConstantColumns {
+  std::vector<double> conv, s, lo, hi, lo_s, hi_s;
+  void push(double value, const double* ci, double convective_s) {
+    conv.push_back(value);
+    s.push_back(value * convective_s);
+    lo.push_back(ci ? ci[0] : kNaN);
+    hi.push_back(ci ? ci[1] : kNaN);
+    lo_s.push_back(lo.back() * convective_s);
+    hi_s.push_back(hi.back() * convective_s);
+  }
+};
+
+// A pair of constants, their columns interleaved as fit_summary.csv has them.
+void add_pair(Table& t, const std::string& a, const ConstantColumns& ca, const std::string& b,
+              const ConstantColumns& cb) {
+  t.add({a + "_conv", "1", ca.conv})
+      .add({b + "_conv", "1", cb.conv})
+      .add({a + "_s", "s", ca.s})
+      .add({b + "_s", "s", cb.s})
+      .add({a + "_ci95_lo_conv", "1", ca.lo})
+      .add({a + "_ci95_hi_conv", "1", ca.hi})
+      .add({b + "_ci95_lo_conv", "1", cb.lo})
+      .add({b + "_ci95_hi_conv", "1", cb.hi})
+      .add({a + "_ci95_lo_s", "s", ca.lo_s})
+      .add({a + "_ci95_hi_s", "s", ca.hi_s})
+      .add({b + "_ci95_lo_s", "s", cb.lo_s})
+      .add({b + "_ci95_hi_s", "s", cb.hi_s});
+}
+
 double scalar_or(const RunStore& s, const std::string& key, double fallback) {
   return s.contains(key) ? s.get<Scalar>(key).value : fallback;
 }
@@ -264,42 +295,20 @@ void put_fit(RunStore& s, const RunLoops& r, const StaticSeparation& curve, cons
   // fit/summary: one row per estimate.
   {
     std::vector<std::string> estimate, kind, status, reason;
-    std::vector<double> t1, t2, t1s, t2s, t1lo, t1hi, t2lo, t2hi, t1los, t1his, t2los, t2his, corr, rms;
+    std::vector<double> corr, rms;
     std::vector<std::int64_t> points;
-    // The vortex-lift constants (columns only with the term, so a plain fit's table is as before).
-    std::vector<double> tv, tvl, tvs, tvls, tvlo, tvhi, tvllo, tvlhi, tvlos, tvhis, tvllos, tvlhis;
+    // The vortex-lift constants get columns only with the term, so a plain fit's table is as before.
+    ConstantColumns tau1, tau2, t_v, t_vl;
     auto row = [&](const std::string& e, const std::string& k, const LoopFit& f, const BootstrapFit* b) {
-      const double none = kNaN;
-      tv.push_back(f.t_v);
-      tvl.push_back(f.t_vl);
-      tvs.push_back(f.t_v * conv);
-      tvls.push_back(f.t_vl * conv);
-      tvlo.push_back(b ? b->t_v_ci[0] : none);
-      tvhi.push_back(b ? b->t_v_ci[1] : none);
-      tvllo.push_back(b ? b->t_vl_ci[0] : none);
-      tvlhi.push_back(b ? b->t_vl_ci[1] : none);
-      tvlos.push_back(tvlo.back() * conv);
-      tvhis.push_back(tvhi.back() * conv);
-      tvllos.push_back(tvllo.back() * conv);
-      tvlhis.push_back(tvlhi.back() * conv);
       estimate.push_back(e);
       kind.push_back(k);
       status.push_back(f.fitted ? "fitted" : "not_fitted");
       reason.push_back(f.reason);
-      t1.push_back(f.tau1);
-      t2.push_back(f.tau2);
-      t1s.push_back(f.tau1 * conv);
-      t2s.push_back(f.tau2 * conv);
-      const double n = kNaN;
-      t1lo.push_back(b ? b->tau1_ci[0] : n);
-      t1hi.push_back(b ? b->tau1_ci[1] : n);
-      t2lo.push_back(b ? b->tau2_ci[0] : n);
-      t2hi.push_back(b ? b->tau2_ci[1] : n);
-      t1los.push_back(t1lo.back() * conv);
-      t1his.push_back(t1hi.back() * conv);
-      t2los.push_back(t2lo.back() * conv);
-      t2his.push_back(t2hi.back() * conv);
-      corr.push_back(b ? b->correlation : n);
+      tau1.push(f.tau1, b ? b->tau1_ci : nullptr, conv);
+      tau2.push(f.tau2, b ? b->tau2_ci : nullptr, conv);
+      t_v.push(f.t_v, b ? b->t_v_ci : nullptr, conv);
+      t_vl.push(f.t_vl, b ? b->t_vl_ci : nullptr, conv);
+      corr.push_back(b ? b->correlation : kNaN);
       rms.push_back(f.rms_residual);
       points.push_back(f.points);
     };
@@ -308,38 +317,10 @@ void put_fit(RunStore& s, const RunLoops& r, const StaticSeparation& curve, cons
       row("cycle " + std::to_string(r.cycle_ids[c]), "per_cycle", fit.cycles[c], nullptr);
     for (const auto& v : fit.sensitivity) row(v.variant, "sensitivity", v.fit, nullptr);
     Table t;
-    t.add({"estimate", "", estimate})
-        .add({"kind", "", kind})
-        .add({"status", "", status})
-        .add({"reason", "", reason})
-        .add({"tau1_conv", "1", t1})
-        .add({"tau2_conv", "1", t2})
-        .add({"tau1_s", "s", t1s})
-        .add({"tau2_s", "s", t2s})
-        .add({"tau1_ci95_lo_conv", "1", t1lo})
-        .add({"tau1_ci95_hi_conv", "1", t1hi})
-        .add({"tau2_ci95_lo_conv", "1", t2lo})
-        .add({"tau2_ci95_hi_conv", "1", t2hi})
-        .add({"tau1_ci95_lo_s", "s", t1los})
-        .add({"tau1_ci95_hi_s", "s", t1his})
-        .add({"tau2_ci95_lo_s", "s", t2los})
-        .add({"tau2_ci95_hi_s", "s", t2his})
-        .add({"tau_correlation", "1", corr})
-        .add({"rms_residual", "1", rms})
-        .add({"points", "1", points});
-    if (o.fit.vortex_lift)
-      t.add({"t_v_conv", "1", tv})
-          .add({"t_vl_conv", "1", tvl})
-          .add({"t_v_s", "s", tvs})
-          .add({"t_vl_s", "s", tvls})
-          .add({"t_v_ci95_lo_conv", "1", tvlo})
-          .add({"t_v_ci95_hi_conv", "1", tvhi})
-          .add({"t_vl_ci95_lo_conv", "1", tvllo})
-          .add({"t_vl_ci95_hi_conv", "1", tvlhi})
-          .add({"t_v_ci95_lo_s", "s", tvlos})
-          .add({"t_v_ci95_hi_s", "s", tvhis})
-          .add({"t_vl_ci95_lo_s", "s", tvllos})
-          .add({"t_vl_ci95_hi_s", "s", tvlhis});
+    t.add({"estimate", "", estimate}).add({"kind", "", kind}).add({"status", "", status}).add({"reason", "", reason});
+    add_pair(t, "tau1", tau1, "tau2", tau2);
+    t.add({"tau_correlation", "1", corr}).add({"rms_residual", "1", rms}).add({"points", "1", points});
+    if (o.fit.vortex_lift) add_pair(t, "t_v", t_v, "t_vl", t_vl);
     // Per-cycle spread, as a second uncertainty beside the bootstrap.
     std::vector<double> c1, c2;
     for (const auto& f : fit.cycles)

@@ -83,15 +83,21 @@ kirchhoff_angle = "alpha"   # the generator's Kirchhoff form
 )") + fit_keys);
 }
 
-TEST(FitOnSynthRun, RecoversTheGeneratorsConstantsWithinItsWindow) {
-  ScratchDir dir;
+// The synthetic run both tests reduce (seed 3, 8 cycles at 1 kHz), with its reduce inputs.
+void write_synth_run(ScratchDir& dir) {
   dir.write("scenario.toml", "[scenario]\nname = \"fit-synth\"\nseed = 3\n[motion]\ncycles = 8\n[daq]\nsample_rate_hz = 1000.0\n");
-  auto r = run_stallscope("synth " + shell_quote((dir / "scenario.toml").string()) + " -o " +
-                          shell_quote((dir / "raw").string()) + " -q");
+  const auto r = run_stallscope("synth " + shell_quote((dir / "scenario.toml").string()) + " -o " +
+                                shell_quote((dir / "raw").string()) + " -q");
   ASSERT_EQ(r.exit_code, 0) << r.err;
   write_reduce_inputs(dir);
-  r = run_stallscope("reduce " + shell_quote((dir / "reduce.toml").string()) + " -o " +
-                     shell_quote((dir / "out").string()) + " -q --no-report");
+}
+
+TEST(FitOnSynthRun, RecoversTheGeneratorsConstantsWithinItsWindow) {
+  ScratchDir dir;
+  write_synth_run(dir);
+  if (HasFatalFailure()) return;
+  auto r = run_stallscope("reduce " + shell_quote((dir / "reduce.toml").string()) + " -o " +
+                          shell_quote((dir / "out").string()) + " -q --no-report");
   ASSERT_EQ(r.exit_code, 0) << r.err;
   const RunStore store = read_archive(dir / "out" / "fit-synth.h5");
   const Table& s = store.get<Table>("fit/summary");
@@ -171,13 +177,10 @@ TEST(FitOnSynthRun, TheVortexLiftTermFollowsTheOvershootAndKeepsTheConstants) {
   // vortex is a convected suction bump, not the Leishman-Beddoes form, so its
   // T_v, T_vl have no truth; tau1, tau2 must stay within the tolerance above.
   ScratchDir dir;
-  dir.write("scenario.toml", "[scenario]\nname = \"fit-synth\"\nseed = 3\n[motion]\ncycles = 8\n[daq]\nsample_rate_hz = 1000.0\n");
-  auto r = run_stallscope("synth " + shell_quote((dir / "scenario.toml").string()) + " -o " +
-                          shell_quote((dir / "raw").string()) + " -q");
-  ASSERT_EQ(r.exit_code, 0) << r.err;
-  write_reduce_inputs(dir);
-  r = run_stallscope("reduce " + shell_quote((dir / "reduce.toml").string()) + " -o " +
-                     shell_quote((dir / "plain").string()) + " -q --no-report");
+  write_synth_run(dir);
+  if (HasFatalFailure()) return;
+  auto r = run_stallscope("reduce " + shell_quote((dir / "reduce.toml").string()) + " -o " +
+                          shell_quote((dir / "plain").string()) + " -q --no-report");
   ASSERT_EQ(r.exit_code, 0) << r.err;
   write_reduce_inputs(dir, "vortex_lift = true\n");
   r = run_stallscope("reduce " + shell_quote((dir / "reduce.toml").string()) + " -o " +

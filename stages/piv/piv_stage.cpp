@@ -9,6 +9,7 @@
 #include "pipeline/errors.hpp"
 #include "stages/piv/airfoil_frame.hpp"
 #include "stages/piv/detection.hpp"
+#include "stages/piv/frame_reduction.hpp"
 #include "stages/piv/frame_source.hpp"
 #include "stages/piv/swirl.hpp"
 #include "stages/piv/time_sync.hpp"
@@ -28,19 +29,6 @@ double interpolate(const Eigen::VectorXd& t, const Eigen::VectorXd& y, double tq
   const Eigen::Index k = std::clamp<Eigen::Index>(it - t.data(), 1, n - 1);
   const double w = (tq - t[k - 1]) / (t[k] - t[k - 1]);
   return y[k - 1] + w * (y[k] - y[k - 1]);
-}
-
-theory::Naca4Section section_of(const std::string& airfoil, const std::string& where) {
-  std::string digits;
-  for (char c : airfoil)
-    if (std::isdigit(static_cast<unsigned char>(c))) digits += c;
-  std::string upper;
-  for (char c : airfoil)
-    if (std::isalpha(static_cast<unsigned char>(c))) upper += static_cast<char>(std::toupper(static_cast<unsigned char>(c)));
-  if (upper != "NACA" || digits.size() != 4)
-    throw InputError(where, "the airfoil mask needs a NACA 4-digit section, [run] airfoil is '" + airfoil +
-                                "' (set [piv] mask_airfoil = false to measure without a mask)");
-  return theory::parse_naca4(digits, false, where);
 }
 
 // The local scale of a `stallscope calib piv-target` file; recorded in provenance.
@@ -146,7 +134,7 @@ std::vector<std::string> PivStage::optional_inputs() const {
 std::vector<std::string> PivStage::outputs() const {
   return {"piv/frames",      "piv/detections",      "piv/grid_x_m",      "piv/grid_y_m",
           "piv/sync_method", "piv/sync_offset_s",   "piv/sync_drift",    "piv/sync_residual_s",
-          "piv/missing_frames", "piv/flagged_frames", "piv/velocity_units"};
+          "piv/missing_frames", "piv/flagged_frames", "piv/velocity_units", "piv/processing"};
 }
 
 void PivStage::run(RunContext& context) {
@@ -212,11 +200,16 @@ void PivStage::run(RunContext& context) {
                                       std::to_string(signal_t[0]) + " to " + std::to_string(signal_t[signal_t.size() - 1]) +
                                       " s); check the time sync");
 
-  piv::AirfoilPlacement placement{chord, store.get<Scalar>("run/pivot_x_over_c").value, o.pivot_x_m, o.pivot_y_m,
-                                  o.chord_angle_offset_deg};
-  theory::Naca4Section section;
-  if (o.mask_airfoil) section = section_of(store.get<Text>("run/airfoil").value, where_airfoil_);
-  const auto scheme = o.gradient == "central" ? piv::GradientScheme::kCentral : piv::GradientScheme::kLeastSquares;
+  piv::FrameRecipe recipe;
+  recipe.to_m_s = to_m_s;
+  recipe.median = median;
+  recipe.max_replaced_fraction = o.max_replaced_fraction;
+  recipe.scheme = o.gradient == "central" ? piv::GradientScheme::kCentral : piv::GradientScheme::kLeastSquares;
+  recipe.placement = {chord, store.get<Scalar>("run/pivot_x_over_c").value, o.pivot_x_m, o.pivot_y_m,
+                      o.chord_angle_offset_deg};
+  if (o.mask_airfoil) recipe.section = piv::mask_section(store.get<Text>("run/airfoil").value, where_airfoil_);
+  recipe.mask_offset_over_c = o.mask_offset_over_c;
+  const piv::AirfoilPlacement& placement = recipe.placement;
   piv::DetectionOptions detect;
   detect.noise_factor = o.noise_factor;
   detect.min_threshold = o.min_swirl_1_s;
@@ -241,24 +234,15 @@ void PivStage::run(RunContext& context) {
           r.reason = "outside the DAQ record";
           continue;
         }
-        for (std::size_t p = 0; p < frame.u.size(); ++p) frame.u[p] *= static_cast<float>(to_m_s), frame.v[p] *= static_cast<float>(to_m_s);
-        std::vector<std::uint8_t> mask;
-        if (o.mask_airfoil) mask = piv::airfoil_mask(grid, placement, section, alpha[frame.index], o.mask_offset_over_c);
-        std::vector<std::uint8_t> replaced;
-        piv::MedianTestOptions m = median;
-        r.counts = piv::validate_frame(grid, frame, mask, m, replaced);
-        if (r.counts.missing == r.counts.vectors) {
-          r.reason = "no valid vectors";
+        piv::ReducedFrame reduced = piv::reduce_frame(grid, recipe, frame, alpha[frame.index]);
+        r.counts = reduced.counts;
+        if (!reduced.flag.empty()) {
+          r.reason = reduced.flag;
           continue;
         }
-        if (static_cast<double>(r.counts.replaced + r.counts.unrecoverable) >
-            o.max_replaced_fraction * static_cast<double>(r.counts.vectors)) {
-          r.reason = "too many replaced vectors";
-          continue;
-        }
-        const piv::SwirlField field = piv::swirl_field(grid, frame, scheme);
+        const piv::SwirlField& field = reduced.field;
         r.noise = piv::noise_swirl(field);
-        r.detections = piv::detect_vortices(grid, field, replaced, detect, &r.threshold);
+        r.detections = piv::detect_vortices(grid, field, reduced.replaced, detect, &r.threshold);
         if (o.gamma2)
           for (const auto& d : r.detections)
             r.gamma2.push_back(piv::gamma2_at(grid, frame, d.centre_j, d.centre_i, static_cast<int>(o.gamma2_half_width)));
@@ -353,6 +337,9 @@ void PivStage::run(RunContext& context) {
   store.put("piv/missing_frames", Scalar{static_cast<double>(sync.missing_frames), "1"});
   store.put("piv/flagged_frames", Scalar{static_cast<double>(flagged), "1"});
   store.put("piv/velocity_units", Text{source->units()});
+  // How each frame was reduced, so one can be reduced again the same way.
+  store.put("piv/processing",
+            piv::recipe_table({recipe, std::filesystem::absolute(o.file).lexically_normal(), o.text_units}));
 }
 
 }  // namespace stallscope

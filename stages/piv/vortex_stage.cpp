@@ -6,6 +6,7 @@
 #include <map>
 
 #include "pipeline/errors.hpp"
+#include "stages/piv/onset_field.hpp"
 #include "stages/piv/tracking.hpp"
 
 namespace stallscope {
@@ -86,12 +87,13 @@ std::vector<std::string> VortexStage::inputs() const {
 }
 
 std::vector<std::string> VortexStage::optional_inputs() const {
-  return {"cycles", "signals/time_s", "motion/phase_deg", "motion/alpha_deg"};
+  return {"cycles", "signals/time_s", "motion/phase_deg", "motion/alpha_deg", "piv/processing", "run/airfoil",
+          "run/pivot_x_over_c"};
 }
 
 std::vector<std::string> VortexStage::outputs() const {
   if (options_.mode == "phase_locked") return {"vortex/phase_locked"};
-  return {"vortex/tracks", "vortex/per_track", "vortex/events_per_cycle"};
+  return {"vortex/tracks", "vortex/per_track", "vortex/events_per_cycle", "vortex/onset_swirl"};
 }
 
 void VortexStage::run_phase_locked(RunContext& context) {
@@ -324,6 +326,26 @@ void VortexStage::run(RunContext& context) {
       le_of_cycle[an[k].cycle] = k;
   }
   for (const auto& [c, k] : le_of_cycle) an[k].le = true;
+
+  // The field at onset of a typical cycle: the one whose LE vortex appeared
+  // at the median time into its cycle (an outlier cycle would mislead).
+  if (!le_of_cycle.empty() && store.contains("piv/processing")) {
+    std::vector<std::pair<double, std::size_t>> delay;  // (birth - cycle start, track)
+    for (const auto& [c, k] : le_of_cycle) {
+      const double birth = obs[tracks[k].observations.front()].t_s;
+      for (const Cycle& cy : cycles)
+        if (cy.number == c) delay.emplace_back(birth - cy.t_start, k);
+    }
+    if (!delay.empty()) {
+      std::sort(delay.begin(), delay.end());
+      const std::size_t k = delay[(delay.size() - 1) / 2].second;
+      piv::store_onset_swirl(context, obs[tracks[k].observations.front()].frame,
+                             {{"cycle", an[k].cycle},
+                              {"track", static_cast<std::int64_t>(k)},
+                              {"chosen", std::string("first frame of the leading-edge vortex of the cycle with the "
+                                                     "median detection time into its cycle")}});
+    }
+  }
 
   // vortex/tracks
   {

@@ -6,6 +6,7 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <numbers>
 
 #include "pipeline/config.hpp"
 #include "pipeline/errors.hpp"
@@ -164,6 +165,44 @@ TEST(PivAndVortexStages, FindTheLeadingEdgeVortexAndItsEvents) {
   EXPECT_NEAR(ev.numbers("t_s")[event("vortex_te_passage")], daq_time(0) + 0.001 * te_frame, 1e-3);
   EXPECT_NEAR(ev.numbers("alpha_deg")[event("vortex_te_passage")], alpha_at(daq_time(0) + 0.001 * te_frame), 0.03);
   EXPECT_NEAR(ev.numbers("value")[event("convection_speed")], kSpeed, 0.007);
+}
+
+TEST(PivAndVortexStages, ReduceTheOnsetFrameAgainForTheSwirlMap) {
+  PivRun run;
+  run.run_stage<PivStage>(kConfig, "piv", 2);
+  run.run_stage<VortexStage>(kConfig, "vortex", 1);
+  const RunStore& s = run.store;
+  ASSERT_TRUE(s.contains("vortex/onset_swirl"));
+  const Eigen::MatrixXd& field = s.get<Matrix>("vortex/onset_swirl").values;
+  const Attributes& at = s.entry("vortex/onset_swirl").attributes;
+  const Eigen::VectorXd &gx = s.get<Series>("piv/grid_x_m").values, &gy = s.get<Series>("piv/grid_y_m").values;
+  ASSERT_EQ(field.rows(), gy.size());
+  ASSERT_EQ(field.cols(), gx.size());
+  // One cycle (no [cycles]): the onset is the LE vortex's first frame, 0.
+  EXPECT_EQ(std::get<std::int64_t>(at.at("frame")), 0);
+  EXPECT_NEAR(std::get<double>(at.at("alpha_deg")), alpha_at(daq_time(0)), 1e-9);
+  // Reduced again the same way: the map's extreme beside the detection is its peak swirl, exactly.
+  const Table& det = s.get<Table>("piv/detections");
+  std::size_t d = det.rows();
+  for (std::size_t k = 0; k < det.rows(); ++k)
+    if (det.integers("frame")[k] == 0 && det.integers("sign")[k] == -1) d = k;
+  ASSERT_LT(d, det.rows());
+  double lowest = 0;
+  Eigen::Index masked = 0;
+  for (Eigen::Index j = 0; j < field.rows(); ++j)
+    for (Eigen::Index i = 0; i < field.cols(); ++i) {
+      if (!std::isfinite(field(j, i))) {
+        ++masked;
+        continue;
+      }
+      if (std::hypot(gx[i] - det.numbers("x_m")[d], gy[j] - det.numbers("y_m")[d]) < 0.01) lowest = std::min(lowest, field(j, i));
+    }
+  EXPECT_DOUBLE_EQ(-lowest, det.numbers("peak_swirl")[d]);
+  EXPECT_GT(masked, 0);  // the section and its wall band
+  // Lamb-Oseen core: solid-body rotation Omega0 = Gamma / (2 pi r_c^2) at the centre
+  // (Lamb 1932); 5 % for a 0.31 r_c grid, an off-grid centre and 1 % U noise (common practice).
+  const double omega0 = kU * kChord / 20 / (2 * std::numbers::pi * std::pow(0.04 * kChord, 2));
+  EXPECT_NEAR(-lowest, omega0 * kChord / kU, 0.05 * omega0 * kChord / kU);
 }
 
 TEST(PivStage, GivesTheSameDetectionsOnOneAndTwoThreads) {

@@ -191,6 +191,8 @@ TEST(ReportCommand, ReduceDrawsTheReportBesideTheArchiveUnlessAskedNotTo) {
   ASSERT_EQ(with.exit_code, 0) << with.err;
   EXPECT_TRUE(std::filesystem::exists(dir / "a" / "report" / "index.html"));
   EXPECT_NE(with.out.find("report:"), std::string::npos) << with.out;
+  // The demo has PIV: the swirl map at onset, its frame reduced again from the stack.
+  EXPECT_TRUE(std::filesystem::exists(dir / "a" / "report" / "onset_swirl.svg"));
   const auto without = testing::run_stallscope("reduce -q " + config + " -o " +
                                                testing::shell_quote((dir / "b").string()) + " --no-report");
   ASSERT_EQ(without.exit_code, 0) << without.err;

@@ -136,11 +136,14 @@ std::vector<FieldVortex> PivGenerator::field_vortices(const FlowSample& s, doubl
   }
   if (p.airfoil_field) {
     // Bound circulation at the quarter chord, Kutta-Joukowski: Gamma = U c Cn / 2 (clockwise).
+    // Its core stays inside the section: outside the body the bound flow is
+    // irrotational and has no swirl, and a Lamb-Oseen core swirls only out to
+    // its velocity peak, 1.12 r_c.
     FieldVortex b;
     b.kind = 6;
     lab(0.25, 0.0, b.x_m, b.y_m);
     b.circulation = -0.5 * velocity_ * chord_ * s.cn_circulatory_target;
-    b.core_radius_m = 0.15 * chord_;
+    b.core_radius_m = 0.7 * theory::naca4_half_thickness(section, 0.25) * chord_;
     out.push_back(b);
   }
   return out;

@@ -53,7 +53,8 @@ struct Event {
 void VortexStage::configure(ConfigSection& s) {
   Options& o = options_;
   o.gate_over_c = s.number("gate_over_c", o.gate_over_c);
-  s.require(o.gate_over_c > 0 && o.gate_over_c < 2, "gate_over_c", "expected a search radius in chords, 0 to 2");
+  s.require(o.gate_over_c >= 0 && o.gate_over_c < 2, "gate_over_c",
+            "expected a search radius in chords below 2 (0: from the frame interval)");
   o.max_gap_frames = s.integer("max_gap_frames", o.max_gap_frames);
   s.require(o.max_gap_frames >= 0 && o.max_gap_frames <= 100, "max_gap_frames", "expected 0 to 100 frames");
   o.min_track_frames = s.integer("min_track_frames", o.min_track_frames);
@@ -197,12 +198,6 @@ void VortexStage::run(RunContext& context) {
   }
   const Eigen::VectorXd &gx = store.get<Series>("piv/grid_x_m").values, &gy = store.get<Series>("piv/grid_y_m").values;
   piv::FieldOfView view{gx.minCoeff(), gx.maxCoeff(), gy.minCoeff(), gy.maxCoeff()};
-  piv::TrackingOptions topt{o.gate_over_c, static_cast<int>(o.max_gap_frames)};
-  std::vector<piv::Track> all = piv::track_vortices(obs, searched, view, topt);
-  std::vector<piv::Track> tracks;
-  for (auto& t : all)
-    if (static_cast<std::int64_t>(t.observations.size()) >= o.min_track_frames) tracks.push_back(std::move(t));
-
   double frame_dt = kNaN;
   if (searched_t.size() >= 2) {
     std::vector<double> d;
@@ -210,6 +205,16 @@ void VortexStage::run(RunContext& context) {
     std::nth_element(d.begin(), d.begin() + static_cast<std::ptrdiff_t>(d.size() / 2), d.end());
     frame_dt = d[d.size() / 2];
   }
+  // A newborn track has no velocity to predict with, so the gate must reach
+  // as far as the fastest plausible vortex moves in one frame.
+  double gate = o.gate_over_c;
+  if (gate == 0)
+    gate = std::isfinite(frame_dt) ? std::max(0.1, o.plausible_speed[1] * speed * frame_dt / chord) : 0.1;
+  piv::TrackingOptions topt{gate, static_cast<int>(o.max_gap_frames)};
+  std::vector<piv::Track> all = piv::track_vortices(obs, searched, view, topt);
+  std::vector<piv::Track> tracks;
+  for (auto& t : all)
+    if (static_cast<std::int64_t>(t.observations.size()) >= o.min_track_frames) tracks.push_back(std::move(t));
 
   // Cycles: from [cycles] when it ran, else the whole PIV record as cycle 0.
   std::vector<Cycle> cycles;
@@ -418,6 +423,7 @@ void VortexStage::run(RunContext& context) {
         .add({"le_vortex", "1", le});
     store.put("vortex/per_track", std::move(pt),
               {{"normalised_by", std::string("convection speed by U_inf (slope of x/c against t U/c)")},
+               {"gate_over_c", gate},
                {"convection_window_x_over_c",
                 std::to_string(o.convection_window_x_over_c[0]) + " to " + std::to_string(o.convection_window_x_over_c[1]) +
                     ", after detachment when known"}});

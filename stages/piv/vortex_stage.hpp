@@ -19,11 +19,15 @@ class VortexStage final : public Stage {
       "track vortices; leading-edge vortex detection, detachment, trailing-edge passage, convection speed per cycle";
 
   struct Options {
-    double gate_over_c = 0.1;                 // search radius about the predicted position
+    // Search radius about the predicted position; 0: the distance the fastest
+    // plausible vortex (plausible_speed) moves in one frame, at least 0.1 c.
+    double gate_over_c = 0;
     std::int64_t max_gap_frames = 2;          // unmatched frames before a track ends
     std::int64_t min_track_frames = 3;        // shorter tracks are noise
     std::int64_t le_sign = -1;                // LE vortex rotation: clockwise with the flow left to right, suction side up
-    double le_birth_max_x_over_c = 0.3;       // born near the leading edge
+    // Born near the leading edge: first seen ahead of this (a coarse grid sees
+    // the vortex only once it has grown and begun to move).
+    double le_birth_max_x_over_c = 0.4;
     double secondary_distance_over_c = 0.15;  // an opposite-sign birth this close beneath the LE vortex is an eruption
     std::vector<double> convection_window_x_over_c = {0.2, 1.0};  // positions fitted for the convection speed
     double te_x_over_c = 1.0;

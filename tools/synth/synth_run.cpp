@@ -110,7 +110,7 @@ std::string reduce_config(const Scenario& s, const std::string& daq_file, bool c
       "on_zero_drift = \"flag\"\n\n[calibrate.calibrations]\ntaps = \"calib_taps.toml\"\n"
       "encoder = \"calib_encoder.toml\"\nreference = \"calib_reference.toml\"\n"
       "temperature = \"calib_temperature.toml\"\n\n[tubing]\n{}\n"
-      "[cp]\n\n[loads]\n\n[motion]\n\n[cycles]\n\n[phase]\n\n"
+      "[cp]\n\n[loads]\n\n[motion]\n\n[cycles]\n\n[phase]\n\n[damping]\n\n"
       "[events]\n# The scenario's static stall angle: the maximum of its static Kirchhoff Cn curve.\n"
       "static_stall_angle_deg = {:.6f}\n",
       0.9 * s.tare_s, total_s - 0.9 * s.tare_s, total_s,

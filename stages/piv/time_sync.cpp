@@ -93,6 +93,14 @@ TimeSync sync_to_trigger(const std::vector<double>& cam, const std::vector<doubl
   }
   if (s.matched < 2) throw InputError(where, "no camera frame after the first matches a trigger pulse");
   s.residual_s = std::sqrt(sq / static_cast<double>(s.matched));
+  const double n = static_cast<double>(s.matched), mean_x = fit.sx / fit.n;
+  const double sxx = fit.sxx - fit.sx * mean_x;
+  if (s.matched > 2 && sxx > 0) {
+    const double sigma = std::sqrt(sq / (n - 2));
+    s.offset_uncertainty_s = sigma / std::sqrt(n);
+    s.drift_uncertainty = sigma / std::sqrt(sxx);
+  }
+  s.centre_s = e0 + a + b * mean_x;
   s.missing_frames = (last_matched - first_matched + 1) - s.matched;
   s.drift = b - 1.0;
   s.offset_s = e0 + a - b * c0;

@@ -21,6 +21,11 @@ struct TimeSync {
   std::string method;                     // "camera trigger" or "constant delay"
   double offset_s = 0, drift = 0;         // t_daq = offset + (1 + drift) t_camera
   double residual_s = 0;                  // rms of the matched pulses about the fit
+  // Standard errors of the fit (ordinary least squares, n - 2 degrees of
+  // freedom): of the fitted time at the matched frames' mean DAQ time
+  // centre_s, and of the drift. A frame at t is placed to within
+  // sqrt(offset_uncertainty_s^2 + (drift_uncertainty (t - centre_s))^2).
+  double centre_s = 0, offset_uncertainty_s = 0, drift_uncertainty = 0;
   std::vector<double> daq_time_s;         // per frame
   std::vector<std::int64_t> pulse;        // per frame: index of its trigger edge, -1 if none
   std::size_t matched = 0;

@@ -5,8 +5,12 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <fstream>
+#include <random>
+#include <sstream>
 
 #include "pipeline/errors.hpp"
+#include "tests/support/test_support.hpp"
 
 namespace stallscope::piv {
 namespace {
@@ -63,6 +67,40 @@ TEST(SyncToTrigger, RecoversOffsetDriftAndDroppedFrames) {
   EXPECT_NEAR(s.drift, kDrift, 1e-9);
   EXPECT_LT(s.residual_s, 1e-9);
   EXPECT_NEAR(s.daq_time_s.back(), pulses.back(), 1e-9);
+}
+
+TEST(SyncToTrigger, GivesTheFitsStandardErrorsAsScipyDoes) {
+  // Edges jittered by 20 us rms (the DAQ samples the TTL coarsely).
+  std::mt19937 rng(7);
+  std::normal_distribution<double> jitter(0.0, 20e-6);
+  std::vector<double> camera, edges;
+  for (int n = 0; n < 300; ++n) {
+    camera.push_back(0.5 + n / 500.0);
+    edges.push_back(0.0123 + (1 + 40e-6) * camera.back() + jitter(rng));
+  }
+  const TimeSync s = sync_to_trigger(camera, edges, 0, "test");
+  ASSERT_EQ(s.matched, camera.size());
+  testing::ScratchDir dir;
+  std::ostringstream xy;
+  xy.precision(17);
+  for (std::size_t k = 0; k < camera.size(); ++k) xy << camera[k] - camera[0] << " " << edges[k] - edges[0] << "\n";
+  dir.write("xy.txt", xy.str());
+  // scipy.stats.linregress (Debian python3-scipy): the slope's standard error,
+  // and the intercept's moved from x = 0 to the mean x.
+  const auto script = dir.write("fit.py",
+                                "import sys, numpy as np\nfrom scipy import stats\n"
+                                "x, y = np.loadtxt(sys.argv[1], unpack=True)\nr = stats.linregress(x, y)\n"
+                                "print(repr(r.stderr), repr(np.sqrt(r.intercept_stderr**2 - (r.stderr * x.mean())**2)))\n");
+  const auto py = testing::run_python(script, testing::shell_quote((dir / "xy.txt").string()));
+  ASSERT_EQ(py.exit_code, 0) << py.err;
+  std::istringstream in(py.out);
+  double slope_se = 0, centre_se = 0;
+  in >> slope_se >> centre_se;
+  EXPECT_NEAR(s.drift_uncertainty, slope_se, 1e-6 * slope_se);
+  EXPECT_NEAR(s.offset_uncertainty_s, centre_se, 1e-6 * centre_se);
+  // About 20 us / sqrt(300) at the centre.
+  EXPECT_NEAR(s.offset_uncertainty_s, 20e-6 / std::sqrt(300.0), 0.2e-6);
+  EXPECT_NEAR(s.centre_s, 0.0123 + (1 + 40e-6) * (0.5 + 299 / 1000.0), 5e-6);
 }
 
 TEST(SyncToTrigger, StartsAtTheNamedPulseAndRejectsTooFewPulses) {

@@ -59,6 +59,8 @@ UncertaintyModel UncertaintyModel::from(ConfigSection& s) {
   sigma("tube_diameter_relative", m.tube_diameter_relative, 0.5, "as a fraction, 0 to 0.5");
   sigma("encoder_offset_deg", m.encoder_offset_deg, 5, "in degrees, 0 to 5");
   sigma("encoder_gain_relative", m.encoder_gain_relative, 0.5, "as a fraction, 0 to 0.5");
+  m.piv_clock_fit = s.boolean("piv_clock_fit", m.piv_clock_fit);
+  sigma("piv_delay_s", m.piv_delay_s, 1.0, "in s, 0 to 1");
   return m;
 }
 

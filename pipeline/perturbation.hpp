@@ -34,6 +34,11 @@ struct UncertaintyModel {
   double tube_diameter_relative = 0.0; // each tap's line diameter
   double encoder_offset_deg = 0.0;     // angle zero
   double encoder_gain_relative = 0.0;
+  // PIV frame times on the DAQ clock: the camera-trigger fit's own standard
+  // errors (offset and drift), and a latency beyond it (the constant delay
+  // of delay sync, or an uncalibrated trigger latency).
+  bool piv_clock_fit = true;
+  double piv_delay_s = 0.0;
 
   // Reads [uncertainty]; InputError at the key for a value out of range.
   static UncertaintyModel from(ConfigSection& section);

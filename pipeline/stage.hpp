@@ -34,8 +34,7 @@ class Stage {
   virtual void run(RunContext& context) = 0;
 
   // Whether Monte Carlo replicas run this stage again. Ingest of raw data and
-  // the PIV stages (whose own uncertainty is not propagated) run once; their
-  // results are shared by every replica.
+  // the PIV frame reduction run once; their results are shared by every replica.
   virtual bool repeated_in_replicas() const { return true; }
 };
 

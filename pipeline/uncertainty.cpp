@@ -72,6 +72,7 @@ std::vector<std::string> row_keys(const Table& t) {
 std::vector<std::string> number_columns(const std::string& key, const Table& t) {
   static const std::map<std::string, std::set<std::string>> kColumns = {
       {"events/per_cycle", {"t_s", "t_conv", "phase_deg", "alpha_deg", "value"}},
+      {"vortex/events_per_cycle", {"t_s", "t_conv", "phase_deg", "alpha_deg", "value"}},
       {"events/summary", {"mean", "median"}}};
   const auto listed = kColumns.find(key);
   std::vector<std::string> names;
@@ -134,7 +135,8 @@ bool has_uncertainty_series(const std::string& key) {
 }
 
 bool has_uncertainty_columns(const std::string& key) {
-  return key == "events/per_cycle" || key == "events/summary" || key == "phase/loads" || starts_with(key, "fit/");
+  return key == "events/per_cycle" || key == "events/summary" || key == "phase/loads" ||
+         key == "vortex/events_per_cycle" || starts_with(key, "fit/");
 }
 
 UncertaintyResult propagate_uncertainty(const UncertaintyModel& model, const StageFactory& make_stages,

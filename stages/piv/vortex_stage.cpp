@@ -6,6 +6,7 @@
 #include <map>
 
 #include "pipeline/errors.hpp"
+#include "pipeline/perturbation.hpp"
 #include "stages/piv/onset_field.hpp"
 #include "stages/piv/tracking.hpp"
 
@@ -36,6 +37,24 @@ double interpolate(const Eigen::VectorXd& t, const Eigen::VectorXd& y, double tq
   if (wrap_degrees) v = std::fmod(v + 360.0, 360.0);
   return v;
 }
+
+// This Monte Carlo replica's error of the frame times on the DAQ clock at t:
+// the camera-trigger fit's offset and drift errors and any latency beyond it.
+// Zero in the nominal reduction.
+struct ClockError {
+  double offset = 0, drift = 0, centre = 0;
+  ClockError(const RunContext& context, const RunStore& store) {
+    const Perturbation* p = context.perturbation();
+    if (!p) return;
+    auto scalar = [&](const char* key) { return store.contains(key) ? store.get<Scalar>(key).value : 0.0; };
+    const bool fit = p->model().piv_clock_fit;
+    offset = p->error(fit ? scalar("piv/sync_offset_uncertainty_s") : 0.0, "piv_clock_offset") +
+             p->error(p->model().piv_delay_s, "piv_delay");
+    drift = p->error(fit ? scalar("piv/sync_drift_uncertainty") : 0.0, "piv_clock_drift");
+    centre = scalar("piv/sync_centre_s");
+  }
+  double operator()(double t) const { return offset + drift * (t - centre); }
+};
 
 struct Cycle {
   std::int64_t number = 0;
@@ -89,7 +108,7 @@ std::vector<std::string> VortexStage::inputs() const {
 
 std::vector<std::string> VortexStage::optional_inputs() const {
   return {"cycles", "signals/time_s", "motion/phase_deg", "motion/alpha_deg", "piv/processing", "run/airfoil",
-          "run/pivot_x_over_c"};
+          "run/pivot_x_over_c", "piv/sync_centre_s", "piv/sync_offset_uncertainty_s", "piv/sync_drift_uncertainty"};
 }
 
 std::vector<std::string> VortexStage::outputs() const {
@@ -175,6 +194,7 @@ void VortexStage::run(RunContext& context) {
   const double to_conv = speed / chord;  // t U / c per second
   const Table& det = store.get<Table>("piv/detections");
   const Table& frames = store.get<Table>("piv/frames");
+  const ClockError clock(context, store);
 
   // Observations and the frames that were searched.
   std::vector<piv::Observation> obs(det.rows());
@@ -185,7 +205,7 @@ void VortexStage::run(RunContext& context) {
     const auto &xm = det.numbers("x_m"), &ym = det.numbers("y_m"), &rad = det.numbers("radius_over_c");
     const auto& circ = det.numbers("circulation");
     for (std::size_t k = 0; k < obs.size(); ++k)
-      obs[k] = {fr[k], t[k], static_cast<int>(sg[k]), xc[k], yc[k], xm[k], ym[k], rad[k] * chord, circ[k]};
+      obs[k] = {fr[k], t[k] + clock(t[k]), static_cast<int>(sg[k]), xc[k], yc[k], xm[k], ym[k], rad[k] * chord, circ[k]};
   }
   std::vector<std::int64_t> searched;
   std::vector<double> searched_t;
@@ -194,7 +214,7 @@ void VortexStage::run(RunContext& context) {
     const auto& st = frames.texts("status");
     const auto& t = frames.numbers("t_s");
     for (std::size_t k = 0; k < fr.size(); ++k)
-      if (st[k] != "flagged") searched.push_back(fr[k]), searched_t.push_back(t[k]);
+      if (st[k] != "flagged") searched.push_back(fr[k]), searched_t.push_back(t[k] + clock(t[k]));
   }
   const Eigen::VectorXd &gx = store.get<Series>("piv/grid_x_m").values, &gy = store.get<Series>("piv/grid_y_m").values;
   piv::FieldOfView view{gx.minCoeff(), gx.maxCoeff(), gy.minCoeff(), gy.maxCoeff()};
@@ -334,7 +354,7 @@ void VortexStage::run(RunContext& context) {
 
   // The field at onset of a typical cycle: the one whose LE vortex appeared
   // at the median time into its cycle (an outlier cycle would mislead).
-  if (!le_of_cycle.empty() && store.contains("piv/processing")) {
+  if (!le_of_cycle.empty() && store.contains("piv/processing") && !context.perturbation()) {
     std::vector<std::pair<double, std::size_t>> delay;  // (birth - cycle start, track)
     for (const auto& [c, k] : le_of_cycle) {
       const double birth = obs[tracks[k].observations.front()].t_s;

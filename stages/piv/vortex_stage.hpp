@@ -40,7 +40,8 @@ class VortexStage final : public Stage {
 
   std::string_view name() const override { return kName; }
   std::string_view summary() const override { return kSummary; }
-  bool repeated_in_replicas() const override { return false; }
+  // Replicas track again with the frame times perturbed by the clock's uncertainty.
+  bool repeated_in_replicas() const override { return true; }
   void configure(ConfigSection& section) override;
   std::vector<std::string> inputs() const override;
   std::vector<std::string> optional_inputs() const override;

@@ -6,6 +6,7 @@
 #include <cmath>
 
 #include "pipeline/config.hpp"
+#include "pipeline/perturbation.hpp"
 #include "pipeline/progress.hpp"
 #include "pipeline/provenance.hpp"
 #include "stages/piv/vortex_stage.hpp"
@@ -33,14 +34,15 @@ struct Detections {
   }
 };
 
-TEST(VortexStage, DetachesAtTheSecondaryEruptionAndSaysWhyTheTrailingEdgeWasNotReached) {
+// A LE vortex that grows until frame 15, then convects at 0.3 U (0.015 c per
+// frame) and leaves the field of view, with a secondary vortex erupting
+// beneath it from frame 10.
+RunStore eruption_run() {
   constexpr int kFrames = 70;
   Detections d;
   for (int f = 0; f < kFrames; ++f) {
-    // LE vortex: grows until frame 15, then convects at 0.3 U (0.015 c per frame).
     const double x = 0.15 + (f > 15 ? 0.3 * kU * kDt / kChord * (f - 15) : 0.0);
     if (x * kChord < 0.146) d.add(f, -1, x, 0.12, -0.05 * std::min(f, 15) - 0.1);
-    // Secondary vortex erupting beneath it from frame 10.
     if (f >= 10 && f < 18) d.add(f, +1, 0.16, 0.05, 0.2);
   }
   std::vector<std::int64_t> frame;
@@ -57,6 +59,10 @@ TEST(VortexStage, DetachesAtTheSecondaryEruptionAndSaysWhyTheTrailingEdgeWasNotR
   store.put("piv/grid_y_m", Series{Eigen::VectorXd::LinSpaced(41, -0.05, 0.05), "m"});
   store.put("run/chord_m", Scalar{kChord, "m"});
   store.put("run/U_inf_m_s", Scalar{kU, "m/s"});
+  return store;
+}
+
+void run_vortex(RunStore& store, const Perturbation* perturbation = nullptr) {
   ConfigFile config = ConfigFile::parse("[vortex]\n", "reduce.toml");
   ConfigSection s(config, "vortex");
   VortexStage stage;
@@ -64,7 +70,13 @@ TEST(VortexStage, DetachesAtTheSecondaryEruptionAndSaysWhyTheTrailingEdgeWasNotR
   Provenance provenance = Provenance::start("test");
   Progress progress(Progress::Mode::kQuiet);
   RunContext context(store, provenance, progress, 1);
+  context.set_perturbation(perturbation);
   stage.run(context);
+}
+
+TEST(VortexStage, DetachesAtTheSecondaryEruptionAndSaysWhyTheTrailingEdgeWasNotReached) {
+  RunStore store = eruption_run();
+  run_vortex(store);
 
   const Table& per = store.get<Table>("vortex/per_track");
   ASSERT_EQ(per.rows(), 2u);
@@ -81,6 +93,41 @@ TEST(VortexStage, DetachesAtTheSecondaryEruptionAndSaysWhyTheTrailingEdgeWasNotR
   EXPECT_NE(ev.texts("reason")[2].find("left the field of view"), std::string::npos) << ev.texts("reason")[2];
   EXPECT_TRUE(std::isnan(ev.numbers("t_s")[2]));
   EXPECT_NEAR(ev.numbers("t_conv")[0], 0.0, 1e-12);
+}
+
+TEST(VortexStage, InAReplicaShiftsEveryEventByThatReplicasClockError) {
+  RunStore nominal = eruption_run();
+  run_vortex(nominal);
+  // The trigger fit's errors: 0.1 ms at its centre, 200 ppm of drift; plus a 0.5 ms latency.
+  RunStore store = eruption_run();
+  store.put("piv/sync_centre_s", Scalar{0.02, "s"});
+  store.put("piv/sync_offset_uncertainty_s", Scalar{1e-4, "s"});
+  store.put("piv/sync_drift_uncertainty", Scalar{2e-4, "1"});
+  UncertaintyModel model;
+  model.piv_delay_s = 5e-4;
+  const Perturbation p(model, 3);
+  run_vortex(store, &p);
+  const double offset = p.error(1e-4, "piv_clock_offset") + p.error(5e-4, "piv_delay");
+  const double drift = p.error(2e-4, "piv_clock_drift");
+  ASSERT_NE(offset, 0.0);
+  const Table &a = nominal.get<Table>("vortex/events_per_cycle"), &b = store.get<Table>("vortex/events_per_cycle");
+  ASSERT_EQ(a.rows(), b.rows());
+  std::size_t timed = 0;
+  for (std::size_t k = 0; k < a.rows(); ++k) {
+    const double t = a.numbers("t_s")[k];
+    if (!std::isfinite(t)) continue;
+    ++timed;
+    // The same tracks, every time moved by offset + drift (t - centre): exact to round-off.
+    EXPECT_NEAR(b.numbers("t_s")[k] - t, offset + drift * (t - 0.02), 1e-15) << a.texts("event")[k];
+  }
+  EXPECT_GE(timed, 2u);
+  // Without the fit's errors only the latency remains.
+  model.piv_clock_fit = false;
+  RunStore latency = eruption_run();
+  latency.put("piv/sync_offset_uncertainty_s", Scalar{1e-4, "s"});
+  run_vortex(latency, &p);
+  EXPECT_NEAR(latency.get<Table>("vortex/events_per_cycle").numbers("t_s")[0] - a.numbers("t_s")[0],
+              p.error(5e-4, "piv_delay"), 1e-15);
 }
 
 }  // namespace

@@ -19,13 +19,13 @@ static void check_readable(const fs::path& path, const std::string& role) {
 
 const fs::path& RunContext::raw_input(const fs::path& path, const std::string& role) {
   check_readable(path, role);
-  provenance_.add_input(path, role);
+  if (!perturbation_) provenance_.add_input(path, role);  // a replica reads what the nominal run hashed
   return path;
 }
 
 void RunContext::calibration_used(const std::string& id, const fs::path& file) {
   check_readable(file, "calibration file");
-  provenance_.add_calibration(id, file);
+  if (!perturbation_) provenance_.add_calibration(id, file);
 }
 
 }  // namespace stallscope

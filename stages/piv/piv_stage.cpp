@@ -7,6 +7,7 @@
 #include <numbers>
 
 #include "pipeline/errors.hpp"
+#include "pipeline/perturbation.hpp"
 #include "stages/piv/airfoil_frame.hpp"
 #include "stages/piv/detection.hpp"
 #include "stages/piv/frame_reduction.hpp"
@@ -54,11 +55,24 @@ double calibration_scale(RunContext& context, const std::filesystem::path& file)
 
 struct FrameResult {
   piv::ValidationCounts counts;
-  double noise = kNaN, threshold = kNaN;
+  double noise = kNaN, threshold = kNaN, random_error = kNaN;
   std::vector<piv::Detection> detections;
   std::vector<double> gamma2;
   std::string reason;  // empty: processed
 };
+
+// A Monte Carlo replica's new noise on a frame: sigma (file units) on each
+// component of each valid vector, keyed by frame and point so any thread
+// order gives the same replica.
+void add_random_error(const Perturbation& p, piv::Frame& frame, double sigma) {
+  if (!(sigma > 0)) return;
+  const std::uint64_t base = frame.index * frame.u.size();
+  for (std::size_t k = 0; k < frame.u.size(); ++k) {
+    if (!frame.valid[k]) continue;
+    frame.u[k] += static_cast<float>(p.error(sigma, "piv_u", base + k));
+    frame.v[k] += static_cast<float>(p.error(sigma, "piv_v", base + k));
+  }
+}
 
 }  // namespace
 
@@ -113,6 +127,7 @@ void PivStage::configure(ConfigSection& s) {
   s.require(o.min_region_cells >= 1, "min_region_cells", "expected at least 1 cell");
   o.cluster_gap_cells = s.integer("cluster_gap_cells", o.cluster_gap_cells);
   s.require(o.cluster_gap_cells >= 0 && o.cluster_gap_cells <= 20, "cluster_gap_cells", "expected 0 to 20 cells");
+  o.random_error_replicas = s.boolean("random_error_replicas", o.random_error_replicas);
   o.gamma2 = s.boolean("gamma2", o.gamma2);
   o.gamma2_half_width = s.integer("gamma2_half_width", o.gamma2_half_width);
   s.require(o.gamma2_half_width >= 1 && o.gamma2_half_width <= 20, "gamma2_half_width", "expected 1 to 20 cells");
@@ -132,9 +147,11 @@ std::vector<std::string> PivStage::optional_inputs() const {
 }
 
 std::vector<std::string> PivStage::outputs() const {
-  return {"piv/frames",      "piv/detections",      "piv/grid_x_m",      "piv/grid_y_m",
-          "piv/sync_method", "piv/sync_offset_s",   "piv/sync_drift",    "piv/sync_residual_s",
-          "piv/missing_frames", "piv/flagged_frames", "piv/velocity_units", "piv/processing"};
+  return {"piv/frames",         "piv/detections",     "piv/grid_x_m",       "piv/grid_y_m",
+          "piv/sync_method",    "piv/sync_offset_s",  "piv/sync_drift",     "piv/sync_residual_s",
+          "piv/sync_centre_s",  "piv/sync_offset_uncertainty_s",            "piv/sync_drift_uncertainty",
+          "piv/missing_frames", "piv/flagged_frames", "piv/velocity_units", "piv/processing",
+          "piv/random_error_m_s"};
 }
 
 void PivStage::run(RunContext& context) {
@@ -220,6 +237,7 @@ void PivStage::run(RunContext& context) {
   std::vector<piv::Frame> chunk;
   const auto chunk_size = static_cast<std::size_t>(o.chunk_frames);
   const int threads = std::max(1, context.threads());
+  const Perturbation* perturbation = o.random_error_replicas ? context.perturbation() : nullptr;
   context.progress().begin("piv frames", frames);
   for (std::size_t first = 0; first < frames; first += chunk_size) {
     const std::size_t count = std::min(chunk_size, frames - first);
@@ -234,6 +252,8 @@ void PivStage::run(RunContext& context) {
           r.reason = "outside the DAQ record";
           continue;
         }
+        r.random_error = piv::random_error(grid, frame) * to_m_s;
+        if (perturbation) add_random_error(*perturbation, frame, r.random_error / to_m_s);
         piv::ReducedFrame reduced = piv::reduce_frame(grid, recipe, frame, alpha[frame.index]);
         r.counts = reduced.counts;
         if (!reduced.flag.empty()) {
@@ -257,7 +277,7 @@ void PivStage::run(RunContext& context) {
 
   // Per-frame table.
   std::vector<std::int64_t> frame_no, pulse, vectors, missing, outliers, replaced, unrecoverable, ndet;
-  std::vector<double> t_cam, t_daq, alpha_col, noise, threshold;
+  std::vector<double> t_cam, t_daq, t_sigma, alpha_col, noise, threshold, random_error;
   std::vector<std::string> status, reason;
   // Per-detection table.
   std::vector<std::int64_t> d_frame, d_sign, d_cells, d_replaced, d_regions;
@@ -269,6 +289,7 @@ void PivStage::run(RunContext& context) {
     frame_no.push_back(static_cast<std::int64_t>(f));
     t_cam.push_back(camera[f]);
     t_daq.push_back(sync.daq_time_s[f]);
+    t_sigma.push_back(std::hypot(sync.offset_uncertainty_s, sync.drift_uncertainty * (sync.daq_time_s[f] - sync.centre_s)));
     pulse.push_back(sync.pulse[f]);
     alpha_col.push_back(alpha[f]);
     vectors.push_back(static_cast<std::int64_t>(r.counts.vectors));
@@ -277,6 +298,7 @@ void PivStage::run(RunContext& context) {
     replaced.push_back(static_cast<std::int64_t>(r.counts.replaced));
     unrecoverable.push_back(static_cast<std::int64_t>(r.counts.unrecoverable));
     noise.push_back(r.noise);
+    random_error.push_back(r.random_error);
     threshold.push_back(r.threshold);
     ndet.push_back(static_cast<std::int64_t>(r.detections.size()));
     std::string why = r.reason;
@@ -308,9 +330,11 @@ void PivStage::run(RunContext& context) {
   }
   Table ft;
   ft.add({"frame", "1", frame_no}).add({"camera_time_s", "s", t_cam}).add({"t_s", "s", t_daq})
-      .add({"trigger_pulse", "1", pulse}).add({"alpha_deg", "deg", alpha_col}).add({"vectors", "1", vectors})
+      .add({"t_fit_uncertainty_s", "s", t_sigma}).add({"trigger_pulse", "1", pulse})
+      .add({"alpha_deg", "deg", alpha_col}).add({"vectors", "1", vectors})
       .add({"missing", "1", missing}).add({"outliers", "1", outliers}).add({"replaced", "1", replaced})
-      .add({"unrecoverable", "1", unrecoverable}).add({"noise_swirl_1_s", "1/s", noise})
+      .add({"unrecoverable", "1", unrecoverable}).add({"random_error_m_s", "m/s", random_error})
+      .add({"noise_swirl_1_s", "1/s", noise})
       .add({"threshold_1_s", "1/s", threshold}).add({"detections", "1", ndet}).add({"status", "", status})
       .add({"reason", "", reason});
   store.put("piv/frames", std::move(ft),
@@ -334,9 +358,17 @@ void PivStage::run(RunContext& context) {
   store.put("piv/sync_offset_s", Scalar{sync.offset_s, "s"});
   store.put("piv/sync_drift", Scalar{sync.drift, "1"});
   store.put("piv/sync_residual_s", Scalar{sync.residual_s, "s"});
+  store.put("piv/sync_centre_s", Scalar{sync.centre_s, "s"});
+  // The fit's standard error of the frame time at sync_centre_s.
+  store.put("piv/sync_offset_uncertainty_s", Scalar{sync.offset_uncertainty_s, "s"});
+  store.put("piv/sync_drift_uncertainty", Scalar{sync.drift_uncertainty, "1"});
   store.put("piv/missing_frames", Scalar{static_cast<double>(sync.missing_frames), "1"});
   store.put("piv/flagged_frames", Scalar{static_cast<double>(flagged), "1"});
   store.put("piv/velocity_units", Text{source->units()});
+  std::vector<double> measured;
+  for (double e : random_error)
+    if (std::isfinite(e)) measured.push_back(e);
+  store.put("piv/random_error_m_s", Scalar{measured.empty() ? kNaN : piv::median_of(measured), "m/s"});
   // How each frame was reduced, so one can be reduced again the same way.
   store.put("piv/processing",
             piv::recipe_table({recipe, std::filesystem::absolute(o.file).lexically_normal(), o.text_units}));

@@ -44,13 +44,18 @@ class PivStage final : public Stage {
     double min_swirl_1_s = 0;
     std::int64_t min_region_cells = 4;
     std::int64_t cluster_gap_cells = 2;
+    // With [uncertainty]: every replica reduces the frames again with new noise
+    // of each frame's estimated random error added (N more PIV reductions). A
+    // replica then carries sqrt 2 the measured noise, so its spread bounds the
+    // random error's effect from above.
+    bool random_error_replicas = false;
     bool gamma2 = false;                         // Gamma2 at each detection's centre
     std::int64_t gamma2_half_width = 2;
   };
 
   std::string_view name() const override { return kName; }
   std::string_view summary() const override { return kSummary; }
-  bool repeated_in_replicas() const override { return false; }
+  bool repeated_in_replicas() const override { return options_.random_error_replicas; }
   void configure(ConfigSection& section) override;
   std::vector<std::string> inputs() const override;
   std::vector<std::string> optional_inputs() const override;

@@ -96,4 +96,23 @@ ValidationCounts validate_frame(const Grid& grid, Frame& f, const std::vector<st
   return c;
 }
 
+double random_error(const Grid& grid, const Frame& f) {
+  const std::size_t nx = grid.nx(), ny = grid.ny();
+  auto usable = [&](std::size_t p) { return f.valid[p] && std::isfinite(f.u[p]) && std::isfinite(f.v[p]); };
+  std::vector<double> r;
+  for (std::size_t j = 1; j + 1 < ny; ++j)
+    for (std::size_t i = 1; i + 1 < nx; ++i) {
+      const std::size_t p = j * nx + i, e = p + 1, w = p - 1, n = p + nx, s = p - nx;
+      if (!(usable(p) && usable(e) && usable(w) && usable(n) && usable(s))) continue;
+      r.push_back(std::abs(f.u[p] - 0.25 * (static_cast<double>(f.u[e]) + f.u[w] + f.u[n] + f.u[s])));
+      r.push_back(std::abs(f.v[p] - 0.25 * (static_cast<double>(f.v[e]) + f.v[w] + f.v[n] + f.v[s])));
+    }
+  if (r.size() < 20) return std::nan("");
+  // A spurious vector spoils its own residual and its four neighbours': drop
+  // residuals beyond 4 sigma of a first estimate, then estimate again.
+  const double first = 1.4826 * median_of(r);
+  std::erase_if(r, [&](double x) { return x > 4 * first; });
+  return 1.4826 * median_of(std::move(r)) / std::sqrt(1.25);
+}
+
 }  // namespace stallscope::piv

@@ -29,6 +29,16 @@ struct ValidationCounts {
   std::size_t unrecoverable = 0;  // left empty: too few valid neighbours
 };
 
+// The random error of one velocity component (one standard deviation, in the
+// frame's units), from the frame itself: the residual of each vector against
+// the mean of its four axis neighbours cancels every linear and harmonic
+// (irrotational) part of the flow and leaves 1.25 sigma^2 of independent
+// noise; its median absolute value (1.4826 MAD, Rousseeuw & Croux 1993),
+// taken again without residuals beyond 4 sigma (those a spurious vector
+// spoils), is robust to outliers and vortex cores. Valid, finite vectors of a
+// uniform grid only; NaN when fewer than 20 residuals exist.
+double random_error(const Grid& grid, const Frame& frame);
+
 // Tests and repairs a frame in place. `masked` (size of the grid, may be
 // empty) marks points outside the flow (inside the airfoil): they are emptied
 // and never used. `replaced` (out, resized) marks vectors that were filled.

@@ -32,6 +32,7 @@
 #include <map>
 #include <sstream>
 
+#include "pipeline/archive.hpp"
 #include "pipeline/progress.hpp"
 #include "tests/support/test_support.hpp"
 #include "tools/synth/synth_run.hpp"
@@ -185,6 +186,10 @@ TEST_F(SynthTruth, EventsMatchTheTruthCycleByCycleAfterTheirMeasuredLagAndSummar
   expect_piv_within("vortex_detachment", "vortex_detachment", 0.47, 0.55, 3);
   expect_piv_within("stall_onset", "vortex_detection", 0.28, 0.35, 3);
   expect_piv_within("convection_speed", "convection_speed", 0.0, 0.04, 2, true);
+  // The vectors' random error estimated from the frames, against the noise synth adds
+  // (the scenario's noise_m_s, 0.15 m/s per component): within 5 %.
+  const RunStore archive = read_archive(dir_ / "out" / "KR12-A-01.h5");
+  EXPECT_NEAR(archive.get<Scalar>("piv/random_error_m_s").value, 0.15, 0.0075);
 
   // The summary carries circular statistics of the phases.
   std::ifstream in(dir_ / "out/events_summary.csv");

@@ -6,11 +6,13 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <map>
 #include <numbers>
 
 #include "pipeline/config.hpp"
 #include "pipeline/errors.hpp"
 #include "pipeline/hdf5.hpp"
+#include "pipeline/perturbation.hpp"
 #include "pipeline/progress.hpp"
 #include "pipeline/provenance.hpp"
 #include "stages/piv/airfoil_frame.hpp"
@@ -94,13 +96,15 @@ struct PivRun {
   }
 
   template <typename S>
-  void run_stage(const std::string& toml, const std::string& section, int threads) {
+  void run_stage(const std::string& toml, const std::string& section, int threads,
+                 const Perturbation* perturbation = nullptr) {
     ConfigFile config = ConfigFile::parse(toml, dir / "reduce.toml");
     ConfigSection s(config, section);
     S stage;
     stage.configure(s);
     s.reject_unknown_keys();
     RunContext context(store, provenance, progress, threads);
+    context.set_perturbation(perturbation);
     stage.run(context);
   }
 };
@@ -203,6 +207,47 @@ TEST(PivAndVortexStages, ReduceTheOnsetFrameAgainForTheSwirlMap) {
   // (Lamb 1932); 5 % for a 0.31 r_c grid, an off-grid centre and 1 % U noise (common practice).
   const double omega0 = kU * kChord / 20 / (2 * std::numbers::pi * std::pow(0.04 * kChord, 2));
   EXPECT_NEAR(-lowest, omega0 * kChord / kU, 0.05 * omega0 * kChord / kU);
+}
+
+TEST(PivStage, AReplicaAddsNoiseOfTheEstimatedRandomErrorOnlyWhenAskedTo) {
+  const UncertaintyModel model;
+  const Perturbation replica(model, 2);
+  PivRun nominal, off, on, again;
+  nominal.run_stage<PivStage>(kConfig, "piv", 2);
+  off.run_stage<PivStage>(kConfig, "piv", 2, &replica);
+  const std::string piv_only = kConfig.substr(0, kConfig.find("[vortex]")) + "random_error_replicas = true\n";
+  on.run_stage<PivStage>(piv_only, "piv", 2, &replica);
+  again.run_stage<PivStage>(piv_only, "piv", 1, &replica);
+  const Table &a = nominal.store.get<Table>("piv/detections"), &b = off.store.get<Table>("piv/detections");
+  const Table &c = on.store.get<Table>("piv/detections"), &d = again.store.get<Table>("piv/detections");
+  EXPECT_EQ(a.numbers("circulation"), b.numbers("circulation"));  // not asked: the nominal frames
+  // The field's own noise is 1 % of U per component; the estimate from each frame finds it.
+  const double estimated = nominal.store.get<Scalar>("piv/random_error_m_s").value;
+  EXPECT_NEAR(estimated, 0.01 * kU, 0.05 * 0.01 * kU);
+  EXPECT_EQ(on.store.get<Scalar>("piv/random_error_m_s").value, estimated);  // estimated before the new noise
+  EXPECT_EQ(c.numbers("circulation"), d.numbers("circulation"));  // the same replica on any thread count
+  // The vortex of each frame (its strongest detection) moves a little: new noise of
+  // sigma on a vortex of 0.05 to 1 U c.
+  auto strongest = [](const Table& t) {
+    std::map<std::int64_t, double> g;
+    for (std::size_t k = 0; k < t.rows(); ++k) {
+      double& best = g[t.integers("frame")[k]];
+      if (std::abs(t.numbers("circulation")[k]) > std::abs(best)) best = t.numbers("circulation")[k];
+    }
+    return g;
+  };
+  const auto ga = strongest(a), gc = strongest(c);
+  // The replica carries its frames' noise and the new (sqrt 2 sigma in all), so
+  // the weakest early frames of the growing vortex may fall below its threshold.
+  std::size_t both = 0, moved = 0;
+  for (const auto& [frame, g] : ga) {
+    if (!gc.count(frame)) continue;
+    ++both;
+    EXPECT_NEAR(gc.at(frame), g, 0.05 * std::abs(g)) << "frame " << frame;
+    moved += gc.at(frame) != g;
+  }
+  EXPECT_GE(both, ga.size() * 9 / 10);
+  EXPECT_GT(moved, both / 2);
 }
 
 TEST(PivStage, GivesTheSameDetectionsOnOneAndTwoThreads) {

@@ -171,10 +171,12 @@ void TubingStage::run(RunContext& context) {
   std::optional<calib::LinesFile> lines;
   if (options_.lines) lines = calib::read_lines_file(context.raw_input(*options_.lines, "lines file"));
   std::map<std::string, calib::MeasuredResponse> measured;
+  std::map<std::string, calib::MeasuredResponse> perturbed_measured;  // a replica's draw of each measured line
 
   // Each tap's response. A Monte Carlo replica puts each line's length and
   // bore off by its draws; taps whose lines are specified alike share the
-  // draw (one cut length: correlated, so conservative for the loads).
+  // draw (one cut length: correlated, so conservative for the loads). A
+  // measured line with its calibration's scatter is drawn row by row.
   const Perturbation* mc = context.perturbation();
   auto perturbed = [&](std::vector<calib::TubeSegment> segments, const std::string& line) {
     if (!mc) return segments;
@@ -202,7 +204,12 @@ void TubingStage::run(RunContext& context) {
         auto m = measured.find(tap.line);
         if (m == measured.end())
           m = measured.emplace(tap.line, calib::read_measured_response(context.raw_input(d.measured, "measured line response"))).first;
-        const calib::MeasuredResponse* r = &m->second;
+        if (mc && !m->second.gain_std.empty() && !perturbed_measured.count(tap.line))
+          perturbed_measured.emplace(tap.line, m->second.perturbed([&](std::size_t k) {
+            return mc->normal("measured_response:" + tap.line, k);
+          }));
+        const calib::MeasuredResponse* r = mc && perturbed_measured.count(tap.line) ? &perturbed_measured.at(tap.line)
+                                                                                  : &m->second;
         response[i] = [r](double f) { return f <= r->max_frequency_hz() ? r->at(f) : std::complex<double>(1e-300, 0); };
         model[i] = "measured";
         key[i] = "line:" + tap.line;

@@ -134,12 +134,28 @@ MeasuredResponse read_measured_response(const std::filesystem::path& path) {
   return parse_measured_response(read_text(path, "measured line response"), path.string());
 }
 
+namespace {
+constexpr const char* kHeader = "frequency_hz,gain,phase_deg";
+constexpr const char* kScatterHeader = "frequency_hz,gain,phase_deg,gain_std,phase_std_deg";
+}  // namespace
+
+MeasuredResponse MeasuredResponse::perturbed(const std::function<double(std::size_t)>& normal) const {
+  MeasuredResponse r = *this;
+  for (std::size_t k = 0; k < r.gain_std.size(); ++k) {
+    // Two draws per row, told apart by the index: 2k for the gain, 2k + 1 for the phase.
+    r.gain[k] = std::max(gain[k] + gain_std[k] * normal(2 * k), 1e-3 * gain[k]);
+    r.phase_deg[k] = phase_deg[k] + phase_std_deg[k] * normal(2 * k + 1);
+  }
+  return r;
+}
+
 MeasuredResponse parse_measured_response(const std::string& text, const std::string& source) {
   MeasuredResponse r;
   std::istringstream in(text);
   std::string line;
   int row = 0;
   bool header = false;
+  int fields = 3;
   double unwrap = 0.0, previous = 0.0;
   while (std::getline(in, line)) {
     ++row;
@@ -150,16 +166,18 @@ MeasuredResponse parse_measured_response(const std::string& text, const std::str
     for (char c : line)
       if (c != ' ' && c != '\t') compact += c;
     if (!header) {
-      if (compact != "frequency_hz,gain,phase_deg")
-        throw InputError(where, "expected the header 'frequency_hz,gain,phase_deg'");
+      if (compact == kScatterHeader) fields = 5;
+      else if (compact != kHeader)
+        throw InputError(where, std::string("expected the header '") + kHeader + "' or '" + kScatterHeader + "'");
       header = true;
       continue;
     }
-    double v[3];
+    double v[5];
     std::size_t start = 0;
-    for (int i = 0; i < 3; ++i) {
+    for (int i = 0; i < fields; ++i) {
       const std::size_t comma = compact.find(',', start);
-      if ((i < 2) == (comma == std::string::npos)) throw InputError(where, "expected 3 fields");
+      if ((i < fields - 1) == (comma == std::string::npos))
+        throw InputError(where, "expected " + std::to_string(fields) + " fields");
       const std::string field = compact.substr(start, comma == std::string::npos ? std::string::npos : comma - start);
       auto [p, ec] = std::from_chars(field.data(), field.data() + field.size(), v[i]);
       if (ec != std::errc() || p != field.data() + field.size() || !std::isfinite(v[i]))
@@ -169,6 +187,7 @@ MeasuredResponse parse_measured_response(const std::string& text, const std::str
     if (v[0] < 0 || (!r.frequency_hz.empty() && v[0] <= r.frequency_hz.back()))
       throw InputError(where, "frequency_hz must be >= 0 and increasing");
     if (!(v[1] > 0)) throw InputError(where, "gain must be > 0");
+    if (fields == 5 && (v[3] < 0 || v[4] < 0)) throw InputError(where, "gain_std and phase_std_deg must be >= 0");
     // A long line lags some thousands of degrees at kHz; a million is a broken file.
     if (std::abs(v[2]) > kMaxPhaseDeg)
       throw InputError(where, fmt::format("phase_deg must be within +-{:g} degrees, found '{}'", kMaxPhaseDeg, v[2]));
@@ -183,8 +202,9 @@ MeasuredResponse parse_measured_response(const std::string& text, const std::str
     r.frequency_hz.push_back(v[0]);
     r.gain.push_back(v[1]);
     r.phase_deg.push_back(ph);
+    if (fields == 5) r.gain_std.push_back(v[3]), r.phase_std_deg.push_back(v[4]);
   }
-  if (r.frequency_hz.empty()) throw InputError(source, "expected the header 'frequency_hz,gain,phase_deg' and rows");
+  if (r.frequency_hz.empty()) throw InputError(source, std::string("expected the header '") + kHeader + "' and rows");
   return r;
 }
 

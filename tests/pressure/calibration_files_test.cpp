@@ -174,5 +174,26 @@ TEST(MeasuredResponse, InterpolatesGainAndUnwrappedPhase) {
   EXPECT_THROW(parse_measured_response("frequency_hz,gain,phase_deg\n10,1,0\n5,1,0\n", "p.csv"), InputError);
 }
 
+TEST(MeasuredResponse, CarriesItsCalibrationsScatterIntoAReplicaRowByRow) {
+  const MeasuredResponse r = parse_measured_response(
+      "frequency_hz,gain,phase_deg,gain_std,phase_std_deg\n10,1.1,-20,0.02,1.5\n20,1.3,-170,0,0\n", "probe.csv");
+  ASSERT_EQ(r.gain_std.size(), 2u);
+  // Draws z = +1 for the first row's gain, -2 for its phase: exactly sigma times z.
+  const MeasuredResponse p = r.perturbed([](std::size_t k) { return k == 0 ? 1.0 : k == 1 ? -2.0 : 3.0; });
+  EXPECT_DOUBLE_EQ(p.gain[0], 1.12);
+  EXPECT_DOUBLE_EQ(p.phase_deg[0], -23.0);
+  EXPECT_EQ(p.gain[1], 1.3);  // no scatter stated, no change
+  EXPECT_EQ(p.phase_deg[1], -170.0);
+  EXPECT_TRUE(parse_measured_response("frequency_hz,gain,phase_deg\n10,1,0\n", "p.csv").gain_std.empty());
+  try {
+    parse_measured_response("frequency_hz,gain,phase_deg,gain_std,phase_std_deg\n10,1,0,-0.1,0\n", "probe.csv");
+    ADD_FAILURE() << "no error";
+  } catch (const InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("probe.csv:2"), std::string::npos) << e.what();
+  }
+  EXPECT_THROW(parse_measured_response("frequency_hz,gain,phase_deg,gain_std,phase_std_deg\n10,1,0\n", "p.csv"),
+               InputError);
+}
+
 }  // namespace
 }  // namespace stallscope::calib

@@ -6,7 +6,9 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <sstream>
 
+#include "pipeline/archive.hpp"
 #include "pipeline/hdf5.hpp"
 #include "pipeline/perturbation.hpp"
 #include "tests/pressure/pressure_fixture.hpp"
@@ -151,6 +153,43 @@ TEST(Propagation, TheSpreadCoversInjectedGainErrorsAtAboutTheStatedRate) {
   }
   std::printf("covered %d of %d\n", covered, runs);
   EXPECT_GE(covered, 16);
+}
+
+// A measured line's calibration scatter reaches only the tap on that line:
+// the demo run with its line_p15.csv given 2 % gain and 1 deg phase scatter,
+// every other input unperturbed.
+TEST(Propagation, AMeasuredLinesScatterReachesOnlyItsTap) {
+  testing::ScratchDir dir;
+  const fs::path run = dir / "run1";
+  fs::copy(testing::kSourceDir / "sample_data/kestrel_ridge/run1", run);
+  const std::string csv = testing::read_text(run / "line_p15.csv");
+  std::istringstream in(csv);
+  std::string line, out;
+  std::getline(in, line);
+  out = "frequency_hz,gain,phase_deg,gain_std,phase_std_deg\n";
+  while (std::getline(in, line)) {
+    const double gain = std::stod(line.substr(line.find(',') + 1));
+    out += line + "," + std::to_string(0.02 * gain) + ",1.0\n";
+  }
+  dir.write("run1/line_p15.csv", out);
+  std::string config = testing::read_text(run / "reduce.toml");
+  config = config.substr(0, config.find("\n[piv]")) +
+           "\n[uncertainty]\nreplicas = 4\ncalibration_residuals = false\nzero_drift = false\n";
+  dir.write("run1/mc.toml", config);
+  const auto r = testing::run_stallscope("reduce -q --no-report " + testing::shell_quote((run / "mc.toml").string()) +
+                                         " -o " + testing::shell_quote((dir / "out").string()));
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  const RunStore a = read_archive(dir / "out" / "KR12-A-01.h5");
+  const Matrix& cp_u = a.get<Matrix>("pressure/cp_uncertainty");
+  const auto& taps = a.get<Table>("pressure/taps").texts("tap");
+  ASSERT_EQ(static_cast<std::size_t>(cp_u.values.cols()), taps.size());
+  for (std::size_t t = 0; t < taps.size(); ++t) {
+    const double largest = cp_u.values.col(static_cast<Eigen::Index>(t)).array().isNaN().select(0.0, cp_u.values.col(
+        static_cast<Eigen::Index>(t)).array()).maxCoeff();
+    if (taps[t] == "p15") EXPECT_GT(largest, 1e-3) << taps[t];
+    else EXPECT_EQ(largest, 0.0) << taps[t];
+  }
+  EXPECT_GT(a.get<Series>("loads/cn_uncertainty").values.maxCoeff(), 0.0);
 }
 
 }  // namespace

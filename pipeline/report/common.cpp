@@ -139,7 +139,8 @@ std::size_t event_style_index(const std::string& event) {
   static const std::vector<std::string> kKnown = {
       "static_stall_crossing", "lift_peak",        "normal_force_peak", "moment_stall",      "cm_min",
       "le_suction_collapse",   "stall_onset",      "stall_delay",       "secondary_peak",    "reattachment",
-      "taps_convection_speed", "vortex_detection", "vortex_detachment", "vortex_te_passage", "convection_speed"};
+      "taps_convection_speed", "vortex_detection", "vortex_detachment", "vortex_te_passage", "convection_speed",
+      "vortex_shedding"};
   static std::vector<std::string> others;
   auto it = std::find(kKnown.begin(), kKnown.end(), event);
   if (it != kKnown.end()) return static_cast<std::size_t>(it - kKnown.begin());

@@ -605,7 +605,8 @@ void EventsStage::run(RunContext& context) {
       {"stall_delay_deg", "deg"},         {"secondary_peak", "1"},  {"reattachment", "1"},
       {"reattachment_loads", "1"},        {"reattachment_pressure", "1"},
       {"taps_convection_speed", "1"},     {"taps_te_passage", "1"}, {"vortex_detection", "1"},
-      {"vortex_detachment", "1"},         {"vortex_te_passage", "1"}, {"convection_speed", "1"}};
+      {"vortex_detachment", "1"},         {"vortex_te_passage", "1"}, {"convection_speed", "1"},
+      {"vortex_shedding", "1"}};
   const std::string value_meaning =
       "static_stall_crossing: pitch rate at the crossing (deg/s); lift_peak, normal_force_peak: Cl, Cn at the peak; "
       "moment_stall: the running maximum of Cm the drop is measured from; cm_min: Cm; le_suction_collapse: Cp at "

@@ -94,6 +94,9 @@ void VortexStage::configure(ConfigSection& s) {
   o.mode = s.choice("mode", {"time_resolved", "phase_locked"}, o.mode);
   o.phase_bin_deg = s.number("phase_bin_deg", o.phase_bin_deg);
   s.require(o.phase_bin_deg > 0 && o.phase_bin_deg <= 90, "phase_bin_deg", "expected a bin width in degrees, 0 to 90");
+  o.shedding_min_circulation_ratio = s.number("shedding_min_circulation_ratio", o.shedding_min_circulation_ratio);
+  s.require(o.shedding_min_circulation_ratio >= 0 && o.shedding_min_circulation_ratio <= 1,
+            "shedding_min_circulation_ratio", "expected a fraction of the first vortex's circulation, 0 to 1");
   o.plausible_speed = s.numbers("plausible_speed", o.plausible_speed);
   s.require(o.plausible_speed.size() == 2 && o.plausible_speed[0] < o.plausible_speed[1], "plausible_speed",
             "expected [low, high] in units of U");
@@ -459,7 +462,8 @@ void VortexStage::run(RunContext& context) {
       const std::string why = c.t_start < t_first || c.t_end > t_last + frame_dt
                                   ? "no leading-edge vortex in the part of the cycle the PIV record covers"
                                   : "no leading-edge vortex detected";
-      for (const char* e : {"vortex_detection", "vortex_detachment", "vortex_te_passage", "convection_speed"})
+      for (const char* e : {"vortex_detection", "vortex_detachment", "vortex_te_passage", "convection_speed",
+                            "vortex_shedding"})
         events.push_back({c.number, e, "missing", why});
       continue;
     }
@@ -485,6 +489,20 @@ void VortexStage::run(RunContext& context) {
                         "fewer than 3 positions in the window x/c " + std::to_string(o.convection_window_x_over_c[0]) +
                             " to " + std::to_string(o.convection_window_x_over_c[1])});
     }
+    // Later vortices shed from the leading edge in the same cycle: LE sign, born
+    // there after the first, and strong enough not to be a shear-layer blob.
+    std::size_t shed = 0;
+    for (std::size_t m = 0; m < tracks.size(); ++m) {
+      const piv::Observation& b = obs[tracks[m].observations.front()];
+      if (m == k || an[m].cycle != c.number || tracks[m].sign != o.le_sign || b.x_over_c > o.le_birth_max_x_over_c ||
+          b.y_over_c < 0 || !(b.t_s > birth.t_s) ||
+          an[m].max_abs_circulation < o.shedding_min_circulation_ratio * a.max_abs_circulation)
+        continue;
+      events.push_back({c.number, "vortex_shedding", "ok", "", b.t_s, frame_dt, an[m].max_abs_circulation});
+      ++shed;
+    }
+    if (shed == 0)
+      events.push_back({c.number, "vortex_shedding", "missing", "no later leading-edge vortex in this cycle"});
   }
   {
     std::vector<std::int64_t> cycle;
@@ -512,7 +530,8 @@ void VortexStage::run(RunContext& context) {
     store.put("vortex/events_per_cycle", std::move(et),
               {{"t_conv", std::string("(t - cycle start) U_inf / c")},
                {"value", std::string("vortex_detection: x/c at birth; vortex_detachment, vortex_te_passage: "
-                                     "circulation / (U_inf c); convection_speed: speed / U_inf")}});
+                                     "circulation / (U_inf c); convection_speed: speed / U_inf; vortex_shedding "
+                                     "(birth of each later LE vortex): its largest |circulation| / (U_inf c)")}});
   }
 }
 

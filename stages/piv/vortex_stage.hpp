@@ -4,8 +4,9 @@
 // vortex (its sign and a birth near the leading edge), when it was first
 // seen, when it detached (the end of its circulation growth, or the eruption
 // of the opposite-sign secondary vortex beneath it, whichever is first), when
-// it passed the trailing edge, and how fast it convected. Phase-locked PIV
-// (mode = "phase_locked") is averaged per phase instead.
+// it passed the trailing edge, how fast it convected, and when later vortices
+// were shed. Phase-locked PIV (mode = "phase_locked") is averaged per phase
+// instead.
 #include <string>
 
 #include "pipeline/stage.hpp"
@@ -31,6 +32,9 @@ class VortexStage final : public Stage {
     double secondary_distance_over_c = 0.15;  // an opposite-sign birth this close beneath the LE vortex is an eruption
     std::vector<double> convection_window_x_over_c = {0.2, 1.0};  // positions fitted for the convection speed
     double te_x_over_c = 1.0;
+    // A later LE vortex counts as shed when its circulation reaches this share of
+    // the first one's (weaker ones are shear-layer blobs; common practice).
+    double shedding_min_circulation_ratio = 0.2;
     std::vector<double> plausible_speed = {0.1, 0.7};  // U; outside: suspect (McCroskey 1981, a bound only)
     // phase_locked: a few snapshots per cycle at set phases; no tracking, the
     // LE vortex of each snapshot averaged per phase bin into vortex/phase_locked.

@@ -23,6 +23,7 @@
 //   vortex_detachment             +0.47 / 0.17 / +0.29..+0.96   (end of circulation growth)
 //   vortex_detection vs release   +0.28 / 0.12 / +0.13..+0.54   (first seen once it has grown)
 //   convection_speed - truth      -0.009 / 0.008 U, -0.025..+0.008 (13 of 18 cycles have 3 points)
+//   vortex_shedding vs the second vortex's release  +0.32 / 0.09 / +0.21..+0.46 (17 of 18 found)
 #include <gtest/gtest.h>
 #include <unistd.h>
 
@@ -186,6 +187,7 @@ TEST_F(SynthTruth, EventsMatchTheTruthCycleByCycleAfterTheirMeasuredLagAndSummar
   expect_piv_within("vortex_detachment", "vortex_detachment", 0.47, 0.55, 3);
   expect_piv_within("stall_onset", "vortex_detection", 0.28, 0.35, 3);
   expect_piv_within("convection_speed", "convection_speed", 0.0, 0.04, 2, true);
+  expect_piv_within("secondary_vortex", "vortex_shedding", 0.32, 0.3, 2);
   // The vectors' random error estimated from the frames, against the noise synth adds
   // (the scenario's noise_m_s, 0.15 m/s per component): within 5 %.
   const RunStore archive = read_archive(dir_ / "out" / "KR12-A-01.h5");

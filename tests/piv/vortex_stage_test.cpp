@@ -4,6 +4,7 @@
 #include <gtest/gtest.h>
 
 #include <cmath>
+#include <functional>
 
 #include "pipeline/config.hpp"
 #include "pipeline/perturbation.hpp"
@@ -37,13 +38,14 @@ struct Detections {
 // A LE vortex that grows until frame 15, then convects at 0.3 U (0.015 c per
 // frame) and leaves the field of view, with a secondary vortex erupting
 // beneath it from frame 10.
-RunStore eruption_run() {
+RunStore eruption_run(const std::function<void(int frame, Detections&)>& more = {}) {
   constexpr int kFrames = 70;
   Detections d;
   for (int f = 0; f < kFrames; ++f) {
     const double x = 0.15 + (f > 15 ? 0.3 * kU * kDt / kChord * (f - 15) : 0.0);
     if (x * kChord < 0.146) d.add(f, -1, x, 0.12, -0.05 * std::min(f, 15) - 0.1);
     if (f >= 10 && f < 18) d.add(f, +1, 0.16, 0.05, 0.2);
+    if (more) more(f, d);
   }
   std::vector<std::int64_t> frame;
   std::vector<double> t;
@@ -85,7 +87,7 @@ TEST(VortexStage, DetachesAtTheSecondaryEruptionAndSaysWhyTheTrailingEdgeWasNotR
   EXPECT_EQ(per.texts("detachment")[0], "secondary vortex eruption beneath it");
   EXPECT_NEAR(per.numbers("convection_speed")[0], 0.3, 1e-9);  // positions after detachment only
   const Table& ev = store.get<Table>("vortex/events_per_cycle");
-  ASSERT_EQ(ev.rows(), 4u);
+  ASSERT_EQ(ev.rows(), 5u);
   EXPECT_EQ(ev.texts("event")[1], "vortex_detachment");
   EXPECT_NEAR(ev.numbers("t_s")[1], 10 * kDt, 1e-12);
   EXPECT_EQ(ev.texts("event")[2], "vortex_te_passage");
@@ -93,6 +95,33 @@ TEST(VortexStage, DetachesAtTheSecondaryEruptionAndSaysWhyTheTrailingEdgeWasNotR
   EXPECT_NE(ev.texts("reason")[2].find("left the field of view"), std::string::npos) << ev.texts("reason")[2];
   EXPECT_TRUE(std::isnan(ev.numbers("t_s")[2]));
   EXPECT_NEAR(ev.numbers("t_conv")[0], 0.0, 1e-12);
+}
+
+TEST(VortexStage, LaterLeadingEdgeVorticesGiveTheSheddingTimesButShearLayerBlobsDoNot) {
+  // The first vortex peaks at |Gamma| = 0.85 U c. A second is shed from the
+  // leading edge at frame 40 (0.5 U c); a blob of 0.1 U c (under the 0.2 share) at frame 45.
+  RunStore store = eruption_run([](int f, Detections& d) {
+    if (f >= 40 && f < 48) d.add(f, -1, 0.2 + 0.005 * (f - 40), 0.12, -0.5);
+    if (f >= 45 && f < 50) d.add(f, -1, 0.3, 0.25, -0.1);
+  });
+  run_vortex(store);
+  const Table& ev = store.get<Table>("vortex/events_per_cycle");
+  std::vector<double> shed;
+  for (std::size_t k = 0; k < ev.rows(); ++k)
+    if (ev.texts("event")[k] == "vortex_shedding") {
+      EXPECT_EQ(ev.texts("status")[k], "ok") << ev.texts("reason")[k];
+      shed.push_back(ev.numbers("t_s")[k]);
+      EXPECT_NEAR(ev.numbers("value")[k], 0.5, 1e-12);
+    }
+  ASSERT_EQ(shed.size(), 1u);
+  EXPECT_NEAR(shed[0], 40 * kDt, 1e-12);
+  // Without the second vortex the cycle says there was none.
+  RunStore single = eruption_run();
+  run_vortex(single);
+  const Table& one = single.get<Table>("vortex/events_per_cycle");
+  EXPECT_EQ(one.texts("event")[4], "vortex_shedding");
+  EXPECT_EQ(one.texts("status")[4], "missing");
+  EXPECT_EQ(one.texts("reason")[4], "no later leading-edge vortex in this cycle");
 }
 
 TEST(VortexStage, InAReplicaShiftsEveryEventByThatReplicasClockError) {

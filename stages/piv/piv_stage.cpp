@@ -6,12 +6,15 @@
 #include <limits>
 #include <numbers>
 
+#include <fmt/format.h>
+
 #include "pipeline/errors.hpp"
 #include "pipeline/perturbation.hpp"
 #include "stages/piv/airfoil_frame.hpp"
 #include "stages/piv/detection.hpp"
 #include "stages/piv/frame_reduction.hpp"
 #include "stages/piv/frame_source.hpp"
+#include "stages/piv/registration.hpp"
 #include "stages/piv/swirl.hpp"
 #include "stages/piv/time_sync.hpp"
 #include "stages/piv/validation.hpp"
@@ -74,6 +77,27 @@ void add_random_error(const Perturbation& p, piv::Frame& frame, double sigma) {
   }
 }
 
+// Up to 12 frames spread over the angles seen, for the registration: which
+// vectors each holds no valid measurement at.
+std::vector<piv::RegistrationFrame> registration_frames(piv::FrameSource& source, const std::vector<double>& alpha) {
+  std::vector<std::size_t> order;
+  for (std::size_t f = 0; f < alpha.size(); ++f)
+    if (std::isfinite(alpha[f])) order.push_back(f);
+  std::sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return alpha[a] < alpha[b]; });
+  constexpr std::size_t kFrames = 12;
+  std::vector<piv::RegistrationFrame> out;
+  std::vector<piv::Frame> one;
+  for (std::size_t k = 0; k < std::min(kFrames, order.size()); ++k) {
+    const std::size_t f = order[order.size() == 1 ? 0 : k * (order.size() - 1) / (std::min(kFrames, order.size()) - 1)];
+    source.read(f, 1, one);
+    piv::RegistrationFrame r{alpha[f], std::vector<std::uint8_t>(one[0].u.size())};
+    for (std::size_t p = 0; p < r.invalid.size(); ++p)
+      r.invalid[p] = !one[0].valid[p] || !std::isfinite(one[0].u[p]) || !std::isfinite(one[0].v[p]);
+    out.push_back(std::move(r));
+  }
+  return out;
+}
+
 }  // namespace
 
 void PivStage::configure(ConfigSection& s) {
@@ -114,6 +138,14 @@ void PivStage::configure(ConfigSection& s) {
   o.pivot_y_m = s.number("pivot_y_m");
   o.chord_angle_offset_deg = s.number("chord_angle_offset_deg", o.chord_angle_offset_deg);
   s.require(std::abs(o.chord_angle_offset_deg) <= 180, "chord_angle_offset_deg", "expected degrees in [-180, 180]");
+  where_registration_ = s.where("registration");
+  o.registration = s.choice("registration", {"config", "data"}, o.registration);
+  o.registration_search_over_c = s.number("registration_search_over_c", o.registration_search_over_c);
+  s.require(o.registration_search_over_c > 0 && o.registration_search_over_c <= 1, "registration_search_over_c",
+            "expected a search radius in chords, 0 to 1");
+  o.registration_search_deg = s.number("registration_search_deg", o.registration_search_deg);
+  s.require(o.registration_search_deg >= 0 && o.registration_search_deg <= 30, "registration_search_deg",
+            "expected degrees, 0 to 30");
   where_airfoil_ = s.where("mask_airfoil");
   o.mask_airfoil = s.boolean("mask_airfoil", o.mask_airfoil);
   o.mask_offset_over_c = s.number("mask_offset_over_c", o.mask_offset_over_c);
@@ -151,7 +183,7 @@ std::vector<std::string> PivStage::outputs() const {
           "piv/sync_method",    "piv/sync_offset_s",  "piv/sync_drift",     "piv/sync_residual_s",
           "piv/sync_centre_s",  "piv/sync_offset_uncertainty_s",            "piv/sync_drift_uncertainty",
           "piv/missing_frames", "piv/flagged_frames", "piv/velocity_units", "piv/processing",
-          "piv/random_error_m_s"};
+          "piv/random_error_m_s", "piv/registration"};
 }
 
 void PivStage::run(RunContext& context) {
@@ -226,6 +258,32 @@ void PivStage::run(RunContext& context) {
                       o.chord_angle_offset_deg};
   if (o.mask_airfoil) recipe.section = piv::mask_section(store.get<Text>("run/airfoil").value, where_airfoil_);
   recipe.mask_offset_over_c = o.mask_offset_over_c;
+  if (recipe.section) {
+    // The configured place checked against the data, or found from it.
+    const std::vector<piv::RegistrationFrame> sample = registration_frames(*source, alpha);
+    const double search = o.registration == "data" ? o.registration_search_over_c * chord : 0.0;
+    const piv::Registration reg = piv::register_from_data(grid, sample, *recipe.section, recipe.placement, search,
+                                                          o.registration == "data" ? o.registration_search_deg : 0.0);
+    if (o.registration == "data") {
+      if (!(reg.mismatch < 0.5))
+        throw InputError(where_registration_,
+                         fmt::format("the section covers the invalid vectors of {} frames poorly (mismatch {:.2f}, 0 is "
+                                     "a perfect fit): the stack may not mark the model's vectors invalid, or the pitch "
+                                     "axis is more than {:g} c from pivot_x_m, pivot_y_m; set registration = \"config\"",
+                                     reg.frames, reg.mismatch, o.registration_search_over_c));
+      recipe.placement = reg.placement;
+    }
+    Table t;
+    t.add({"method", "", std::vector<std::string>{o.registration}})
+        .add({"pivot_x_m", "m", std::vector<double>{recipe.placement.pivot_x_m}})
+        .add({"pivot_y_m", "m", std::vector<double>{recipe.placement.pivot_y_m}})
+        .add({"chord_angle_offset_deg", "deg", std::vector<double>{recipe.placement.chord_angle_offset_deg}})
+        .add({"mismatch", "1", std::vector<double>{reg.mismatch}})
+        .add({"frames", "1", std::vector<std::int64_t>{static_cast<std::int64_t>(reg.frames)}});
+    store.put("piv/registration", std::move(t),
+              {{"mismatch", std::string("cells where the section (no wall band) and the invalid vectors disagree, "
+                                        "over the cells either marks; 0 is a perfect fit")}});
+  }
   const piv::AirfoilPlacement& placement = recipe.placement;
   piv::DetectionOptions detect;
   detect.noise_factor = o.noise_factor;

@@ -38,6 +38,12 @@ class PivStage final : public Stage {
     std::string gradient = "central";            // central | least_squares
     double pivot_x_m = 0, pivot_y_m = 0;         // pitch axis in the PIV frame (required)
     double chord_angle_offset_deg = 0;           // registration: geometric angle at alpha = 0
+    // config: the place above, checked against the data (piv/registration);
+    // data: found from the vectors the stack marks invalid inside the model,
+    // starting from the place above and searching this far.
+    std::string registration = "config";
+    double registration_search_over_c = 0.1;
+    double registration_search_deg = 3.0;
     bool mask_airfoil = true;
     double mask_offset_over_c = 0.01;            // wall band masked beside the section
     double noise_factor = 3.0;
@@ -66,7 +72,7 @@ class PivStage final : public Stage {
 
  private:
   Options options_;
-  std::string where_file_, where_units_, where_sync_, where_airfoil_, where_calibration_;
+  std::string where_file_, where_units_, where_sync_, where_airfoil_, where_calibration_, where_registration_;
 };
 
 }  // namespace stallscope

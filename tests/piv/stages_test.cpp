@@ -293,6 +293,26 @@ TEST(PivStage, RejectsFramesThatAllLieOutsideTheDaqRecord) {
   }
 }
 
+TEST(PivStage, RegistrationFromDataNeedsTheModelsVectorsMarkedInvalid) {
+  PivRun run;  // this stack has a valid vector everywhere, even inside the section
+  try {
+    run.run_stage<PivStage>("[piv]\nfile = \"piv.h5\"\npivot_x_m = 0.05\npivot_y_m = 0.0\nmedian_epsilon_m_s = 0.05\n"
+                            "registration = \"data\"\n",
+                            "piv", 1);
+    ADD_FAILURE() << "no error";
+  } catch (const InputError& e) {
+    const std::string what = e.what();
+    EXPECT_NE(what.find("reduce.toml:6"), std::string::npos) << what;
+    EXPECT_NE(what.find("registration = \"config\""), std::string::npos) << what;
+  }
+  // Checked against the data instead, the configured place is recorded with its poor fit.
+  run.run_stage<PivStage>(kConfig, "piv", 1);
+  const Table& reg = run.store.get<Table>("piv/registration");
+  EXPECT_EQ(reg.texts("method")[0], "config");
+  EXPECT_EQ(reg.numbers("pivot_x_m")[0], 0.05);
+  EXPECT_EQ(reg.numbers("mismatch")[0], 1.0);
+}
+
 TEST(PivStage, RejectsBadOptionsAtTheirKey) {
   PivRun run;
   try {

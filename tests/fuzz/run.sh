@@ -77,11 +77,11 @@ run_one() {  # target
   mkdir -p "$build/fuzz-logs"
   start=$(date +%s) rc=0
   # -timeout: one input may take 10 s (a slow input is a finding too).
-# -malloc_limit_mb: one allocation past 1 GiB is reported where it is made (its stack
+# -malloc_limit_mb: one allocation past 512 MiB is reported where it is made (its stack
 # says whose it is), before the process's memory grows past -rss_limit_mb.
   # timeout: a hard stop should libFuzzer's own one fail (a hang where its alarm cannot act).
   (cd "$build/fuzz-logs" && timeout -s KILL $((seconds + 120)) "$build/tests/fuzz/$t" -max_total_time="$seconds" \
-    -timeout=10 -rss_limit_mb=2048 -malloc_limit_mb=1024 -seed="$seed" \
+    -timeout=10 -rss_limit_mb=2048 -malloc_limit_mb=512 -seed="$seed" \
     -print_final_stats=1 -artifact_prefix="$crashes/" "$corpus" "$seeds" >"$log" 2>&1) || rc=$?
   [ "${rc:-0}" -eq 137 ] && echo "killed after $((seconds + 120)) s" >"$crashes/timeout-killed"
   elapsed=$(( $(date +%s) - start ))

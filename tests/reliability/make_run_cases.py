@@ -62,7 +62,7 @@ def calibration(ident, kind, channels, gain, offset=0.0):
     return s
 
 
-def write_run(case, constant_angle=False, taps=TAPS, tap_channels=None, piv=None):
+def write_run(case, constant_angle=False, taps=TAPS, tap_channels=None, piv=None, pitch_hz=PITCH_HZ, extra=""):
     """The good run in case's folder, with the changes asked for."""
     folder = os.path.join(ROOT, case)
     os.makedirs(folder, exist_ok=True)
@@ -71,10 +71,10 @@ def write_run(case, constant_angle=False, taps=TAPS, tap_channels=None, piv=None
         if entry != "expect.toml":
             shutil.rmtree(path) if os.path.isdir(path) else os.remove(path)
     t = np.arange(SAMPLES) / RATE_HZ
-    alpha_deg = np.full(SAMPLES, 10.0) if constant_angle else 10 + 8 * np.sin(2 * np.pi * PITCH_HZ * t)
+    alpha_deg = np.full(SAMPLES, 10.0) if constant_angle else 10 + 8 * np.sin(2 * np.pi * pitch_hz * t)
     columns = {"alpha_enc": (alpha_deg + 30) / 6, "q_pitot": 6.0 + 0.001 * np.sin(2 * np.pi * 37 * t)}
     for i, (_, channel, _, surface) in enumerate(TAPS):
-        columns[channel] = 0.1 * np.sin(2 * np.pi * PITCH_HZ * t + i) + (-0.2 if surface == "upper" else 0.1)
+        columns[channel] = 0.1 * np.sin(2 * np.pi * pitch_hz * t + i) + (-0.2 if surface == "upper" else 0.1)
     with open(os.path.join(folder, "daq.csv"), "w") as f:
         f.write("time_s," + ",".join(columns) + "\n")
         for k in range(SAMPLES):
@@ -87,7 +87,7 @@ def write_run(case, constant_angle=False, taps=TAPS, tap_channels=None, piv=None
         "calib_taps.toml": calibration("cat-taps", "pressure_transducers", tap_channels or [c for _, c, _, _ in TAPS], 500.0),
         "calib_encoder.toml": calibration("cat-encoder", "angle_encoder", ["alpha_enc"], 6.0, -30.0),
         "calib_reference.toml": calibration("cat-reference", "reference_pressure", ["q_pitot"], 50.0),
-        "run.toml": RUN_TOML + (PIV_TOML.format(file=piv) if piv else ""),
+        "run.toml": RUN_TOML + extra + (PIV_TOML.format(file=piv) if piv else ""),
     }
     for name, text in files.items():
         with open(os.path.join(folder, name), "w") as f:
@@ -137,6 +137,10 @@ def main():
     write_run("calibration_extra_channels", tap_channels=[f"s{i:02d}" for i in range(1, 7)])
     write_run("calibration_missing_channel", tap_channels=["s01", "s02", "s03"])
     write_run("motion_angle_constant", constant_angle=True)
+    write_run("motion_forced_type_misfits", extra='type = "static"\n')
+    # 2.5 Hz over 0.8 s: two periods, but only one starts and ends at the minimum angle.
+    write_run("cycles_fewer_than_two", pitch_hz=2.5, extra="\n[cycles]\n")
+    write_run("phase_bins_empty", extra="\n[cycles]\n\n[cp]\nclip_fraction = 0.05  # each value of this exactly periodic record repeats once a period\n\n[loads]\n\n[phase]\nbins = 3600\n")
     write_piv_h5(write_run("piv_h5_shape_mismatch", piv="piv.h5"), u_shape=(4, 5, 5))
     write_piv_h5(write_run("piv_h5_grid_not_monotonic", piv="piv.h5"), x_m=[0.0, 0.03, 0.09, 0.06, 0.12, 0.15])
     write_piv_text(write_run("piv_text_off_grid", piv="frames"), off_grid_frame=2)

@@ -552,15 +552,24 @@ void write_plateaus(RunStore& s, const Record& r, const std::vector<numerics::Pl
 
 // --- MotionFit ---------------------------------------------------------------
 
-double MotionFit::theta(double t) const {
+// theta(t) with node interval k (nt[k-1] <= t < nt[k]) found from a first
+// guess; `k` is updated, so a caller walking ascending times searches little.
+double MotionFit::theta_near(double t, std::size_t& k) const {
   const double omega = 2 * kPi * freq_hz;
   const auto& nt = node_t_s;
   if (nt.empty()) return omega * t + sine_phase_rad;
   if (t <= nt.front()) return node_theta_rad.front() + omega * (t - nt.front());
   if (t >= nt.back()) return node_theta_rad.back() + omega * (t - nt.back());
-  const auto k = static_cast<std::size_t>(std::upper_bound(nt.begin(), nt.end(), t) - nt.begin());
+  if (k < 1 || k >= nt.size() || t < nt[k - 1])
+    k = static_cast<std::size_t>(std::upper_bound(nt.begin(), nt.end(), t) - nt.begin());
+  while (nt[k] <= t) ++k;
   const double u = (t - nt[k - 1]) / (nt[k] - nt[k - 1]);
   return node_theta_rad[k - 1] + u * (node_theta_rad[k] - node_theta_rad[k - 1]);
+}
+
+double MotionFit::theta(double t) const {
+  std::size_t k = 0;
+  return theta_near(t, k);
 }
 
 double MotionFit::theta_rate(double t) const {
@@ -581,11 +590,22 @@ double MotionFit::time_at_theta(double th) const {
   return node_t_s[k - 1] + u * (node_t_s[k] - node_t_s[k - 1]);
 }
 
-MotionFit::CyclePhase MotionFit::at(double t) const {
-  const double turns = (theta(t) - theta(cycle_origin_s)) / (2 * kPi);
+MotionFit::CyclePhase MotionFit::from_turns(double turns) const {
   const auto c = static_cast<std::int64_t>(std::floor(turns + 1e-9));
   const double p = 360.0 * (turns - std::floor(turns));
   return {c >= 0 && c < cycles ? c : -1, p >= 360.0 ? 0.0 : p};
+}
+
+MotionFit::CyclePhase MotionFit::at(double t) const {
+  return from_turns((theta(t) - theta(cycle_origin_s)) / (2 * kPi));
+}
+
+std::vector<MotionFit::CyclePhase> MotionFit::at(std::span<const double> t) const {
+  const double origin = theta(cycle_origin_s);
+  std::vector<CyclePhase> out(t.size());
+  std::size_t k = 0;
+  for (std::size_t i = 0; i < t.size(); ++i) out[i] = from_turns((theta_near(t[i], k) - origin) / (2 * kPi));
+  return out;
 }
 
 double MotionFit::cycle_start_s(std::int64_t c) const {

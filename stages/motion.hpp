@@ -12,6 +12,7 @@
 // the angle (motion/phase_nodes) and runs linearly between them, so each cycle
 // keeps its own period when the pitch frequency drifts.
 #include <cstdint>
+#include <span>
 #include <string>
 #include <vector>
 
@@ -42,6 +43,9 @@ struct MotionFit {
     double phase_deg;    // [0, 360), 0 at the minimum angle
   };
   CyclePhase at(double t) const;               // both at once (one phase evaluation)
+  // at() of every sample of a time base, in one walk over the nodes when the
+  // times ascend (a record's do), the same values as at() sample by sample.
+  std::vector<CyclePhase> at(std::span<const double> t) const;
   double phase_deg(double t) const { return at(t).phase_deg; }
   std::int64_t cycle(double t) const { return at(t).cycle; }
   double cycle_start_s(std::int64_t c) const;  // where theta has advanced c turns from cycle_origin_s
@@ -52,6 +56,10 @@ struct MotionFit {
   // Reads motion/fit; throws InputError naming `needed_by` when the run's
   // motion is not periodic (no motion/fit in the store).
   static MotionFit from_store(const RunStore& store, const std::string& needed_by);
+
+ private:
+  double theta_near(double t, std::size_t& k) const;
+  CyclePhase from_turns(double turns) const;
 };
 
 class MotionStage final : public Stage {

@@ -3,7 +3,6 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
-#include <map>
 
 #include "pipeline/errors.hpp"
 #include "stages/motion.hpp"
@@ -30,14 +29,31 @@ struct Members {
   std::vector<std::int64_t> cycle;
 };
 
-Members phase_members(const Eigen::VectorXd& t, const MotionFit& motion, const std::vector<bool>& use, int bins) {
+// Cycle and phase bin of every sample of one time base.
+struct Placement {
+  std::vector<std::int64_t> cycle;  // -1 outside the complete cycles
+  std::vector<int> bin;
+};
+
+Placement place(const Eigen::VectorXd& t, const MotionFit& motion, int bins) {
+  const std::vector<MotionFit::CyclePhase> at = motion.at(std::span<const double>(t.data(), t.size()));
+  Placement p;
+  p.cycle.resize(at.size());
+  p.bin.resize(at.size());
+  for (std::size_t i = 0; i < at.size(); ++i) {
+    p.cycle[i] = at[i].cycle;
+    p.bin[i] = std::min(bins - 1, static_cast<int>(at[i].phase_deg * bins / 360.0));
+  }
+  return p;
+}
+
+Members phase_members(const Placement& p, const std::vector<bool>& use) {
   Members m;
-  for (Eigen::Index i = 0; i < t.size(); ++i) {
-    const auto [c, phase] = motion.at(t[i]);
+  for (std::size_t i = 0; i < p.cycle.size(); ++i) {
+    const std::int64_t c = p.cycle[i];
     if (c < 0 || !use[static_cast<std::size_t>(c)]) continue;
-    const int b = std::min(bins - 1, static_cast<int>(phase * bins / 360.0));
-    m.sample.push_back(i);
-    m.bin.push_back(b);
+    m.sample.push_back(static_cast<Eigen::Index>(i));
+    m.bin.push_back(p.bin[i]);
     m.cycle.push_back(c);
   }
   return m;
@@ -195,17 +211,30 @@ void PhaseStage::run(RunContext& context) {
                          {"cycles_averaged", static_cast<std::int64_t>(used)},
                          {"bin_width_deg", 360.0 / bins}};
   std::vector<numerics::BinnedStatistics> stats;
-  std::map<const Eigen::VectorXd*, Members> members;  // once per time base: the loads and Cp share one
+  // Placed once per time base (the angle, loads and Cp usually share one time
+  // base; equal time vectors count as one): the valid cycles' members, and every complete cycle's.
+  struct Base {
+    const Eigen::VectorXd* time;
+    Members valid, every;
+  };
+  std::vector<Base> bases;
+  bases.reserve(groups.size());  // references into it stay valid
+  auto base_of = [&](const Eigen::VectorXd* t) -> const Base& {
+    for (const Base& b : bases)
+      if (b.time == t || (b.time->size() == t->size() && *b.time == *t)) return b;
+    const Placement p = place(*t, motion, bins);
+    bases.push_back(Base{t, phase_members(p, use), options_.per_cycle ? phase_members(p, all) : Members{}});
+    return bases.back();
+  };
   for (const Group& g : groups) {
-    auto found = members.find(g.time);
-    if (found == members.end()) found = members.emplace(g.time, phase_members(*g.time, motion, use, bins)).first;
-    const Members& m = found->second;
+    const Base& base = base_of(g.time);
+    const Members& m = base.valid;
     stats.push_back(numerics::bin_statistics(g.values, m.sample, m.bin, bins, context.threads()));
     check_filled(stats.back(), g, bins_where_, bins, "phase", used);
     write_stats(s, "phase/", g, stats.back(), attrs);
     if (options_.per_cycle && !g.matrix) {
       // Every complete cycle's loop, valid or not (the archive keeps invalid cycles, marked).
-      const Members every = phase_members(*g.time, motion, all, bins);
+      const Members& every = base.every;
       Eigen::MatrixXd loops = Eigen::MatrixXd::Constant(bins, static_cast<Eigen::Index>(all.size()), NAN);
       std::vector<std::string> names;
       std::size_t start = 0;

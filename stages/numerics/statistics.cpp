@@ -7,6 +7,7 @@
 #include <limits>
 #include <numeric>
 #include <stdexcept>
+#include <tuple>
 
 namespace stallscope::numerics {
 
@@ -61,8 +62,12 @@ void select_kth(double* a, std::size_t n, std::size_t k) {
       lo = equal;
     }
   }
-  for (std::size_t i = lo + 1; i < hi; ++i)  // insertion sort of the small rest
-    for (std::size_t j = i; j > lo && a[j] < a[j - 1]; --j) std::swap(a[j], a[j - 1]);
+  for (std::size_t i = lo + 1; i < hi; ++i) {  // insertion sort of the small rest, shifting (not swapping)
+    const double v = a[i];
+    std::size_t j = i;
+    for (; j > lo && v < a[j - 1]; --j) a[j] = a[j - 1];
+    a[j] = v;
+  }
 }
 
 }  // namespace
@@ -72,15 +77,26 @@ double percentile(std::span<double> x, double p) {
   if (!(p >= 0 && p <= 1)) throw std::invalid_argument("percentile: p must be in [0, 1]");
   const double h = p * static_cast<double>(x.size() - 1);
   const auto lo = static_cast<std::size_t>(std::floor(h));
-  if (std::any_of(x.begin(), x.end(), [](double v) { return std::isnan(v); }))
+  double v_lo, v_hi;
+  if (std::any_of(x.begin(), x.end(), [](double v) { return std::isnan(v); })) {
     std::nth_element(x.begin(), x.begin() + static_cast<std::ptrdiff_t>(lo), x.end());
-  else
-    select_kth(x.data(), x.size(), lo);
-  const double v_lo = x[lo];
+    v_lo = x[lo];
+    v_hi = lo + 1 < x.size() ? *std::min_element(x.begin() + static_cast<std::ptrdiff_t>(lo) + 1, x.end()) : v_lo;
+  } else {
+    std::tie(v_lo, v_hi) = order_pair(x, lo);
+  }
   if (lo + 1 >= x.size() || h == static_cast<double>(lo)) return v_lo;
-  // The next order statistic is the smallest of the upper part.
-  const double v_hi = *std::min_element(x.begin() + static_cast<std::ptrdiff_t>(lo) + 1, x.end());
   return v_lo + (h - static_cast<double>(lo)) * (v_hi - v_lo);
+}
+
+std::pair<double, double> order_pair(std::span<double> x, std::size_t k) {
+  if (k >= x.size()) throw std::invalid_argument("order_pair: k beyond the values");
+  select_kth(x.data(), x.size(), k);
+  if (k + 1 == x.size()) return {x[k], x[k]};
+  // The next order statistic is the smallest of the upper part.
+  double next = x[k + 1];
+  for (std::size_t i = k + 2; i < x.size(); ++i) next = std::min(next, x[i]);
+  return {x[k], next};
 }
 
 double student_t_quantile(double p, double nu) {

@@ -1,6 +1,7 @@
 #pragma once
 // Sample statistics used for cycle-to-cycle spread and confidence intervals.
 #include <span>
+#include <utility>
 #include <vector>
 
 namespace stallscope::numerics {
@@ -13,6 +14,11 @@ double sample_std(std::span<const double> x);
 // statistics (position p (n - 1), numpy's default). Reorders x. Throws
 // std::invalid_argument for an empty x or p outside [0, 1].
 double percentile(std::span<double> x, double p);
+
+// The k-th and (k+1)-th smallest of x (k < x.size(); the k-th twice when it
+// is the largest), the two order statistics a percentile interpolates between.
+// Reorders x; values must be comparable (no NaN).
+std::pair<double, double> order_pair(std::span<double> x, std::size_t k);
 
 // Quantile of Student's t distribution with nu > 0 degrees of freedom, from
 // the regularised incomplete beta function (CDF inverted by bisection).

@@ -228,6 +228,17 @@ TEST(MotionStage, FollowsADriftingPitchFrequencyCycleByCycle) {
   EXPECT_LT(worst_phase, 1.0);   // deg (measured 0.38)
   // Each cycle's own period shows the drift: later cycles are shorter.
   EXPECT_GT(m.cycle_start_s(1) - m.cycle_start_s(0), m.cycle_start_s(m.cycles) - m.cycle_start_s(m.cycles - 1));
+  // The whole record placed at once walks the nodes: the same cycle and phase
+  // as sample by sample, also for times that go back or lie off the record.
+  std::vector<double> times(t.data(), t.data() + t.size());
+  times.insert(times.end(), {3.3, 0.2, -1.0, 40.0, 3.3});
+  const std::vector<MotionFit::CyclePhase> placed = m.at(times);
+  ASSERT_EQ(placed.size(), times.size());
+  for (std::size_t i = 0; i < times.size(); ++i) {
+    const MotionFit::CyclePhase one = m.at(times[i]);
+    ASSERT_EQ(placed[i].cycle, one.cycle) << "t " << times[i];
+    ASSERT_EQ(placed[i].phase_deg, one.phase_deg) << "t " << times[i];
+  }
 
   // One fitted frequency cannot follow it.
   Harness fitted;

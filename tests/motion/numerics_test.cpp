@@ -125,6 +125,20 @@ TEST(BinStatistics, TakeTheSamePercentilesAsTheWholeBinForAnyDistribution) {
     }
 }
 
+TEST(OrderPair, GivesTheKthAndNextSmallestAndTheLargestTwiceAtTheEnd) {
+  std::vector<double> v{5, 3, 9, 1, 7, 3, 8, 2, 6, 4, 0, 11, 10, 12, 15, 14, 13, 16, 17, 18, 19};
+  std::vector<double> sorted = v;
+  std::sort(sorted.begin(), sorted.end());
+  for (std::size_t k = 0; k < v.size(); ++k) {
+    std::vector<double> w = v;
+    const auto [a, b] = order_pair(w, k);
+    EXPECT_EQ(a, sorted[k]) << "k " << k;
+    EXPECT_EQ(b, sorted[std::min(k + 1, v.size() - 1)]) << "k " << k;
+  }
+  std::vector<double> none;
+  EXPECT_THROW(order_pair(none, 0), std::invalid_argument);
+}
+
 TEST(Percentile, InterpolatesBetweenOrderStatisticsLikeNumpy) {
   // numpy.percentile([4, 1, 3, 2], q) with the default linear method: 2.5, 1.15, 3.85, 1, 4.
   std::vector<double> v{4, 1, 3, 2};

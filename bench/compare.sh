@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
 # Runs each stallscope benchmark and its numpy reference side by side, in one
-# run, and prints the ratio reference/stallscope (higher is better for us).
+# run, and prints the ratio reference/stallscope (higher is better for us);
+# a case run at several thread counts (Case/1, Case/2) gets a row for each.
 # Usage: bench/compare.sh [build-dir]   (machine is shared: read ratios, not times)
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -20,16 +21,19 @@ for bin in "$build"/bench/bench_*; do
 import json, sys
 scale = {"ns": 1e-9, "us": 1e-6, "ms": 1e-3, "s": 1.0}
 for b in json.load(open(sys.argv[1]))["benchmarks"]:
-    name = b["name"].split("/")[0].removeprefix("BM_")
+    # BM_Case/2/real_time -> Case/2: an argument (a thread count) keeps its own row.
+    name = b["name"].removeprefix("BM_").removesuffix("/real_time")
     print(name, b["real_time"] * scale[b["time_unit"]])
 PY
 )
   rm -f "$json"
   if [ -f "$ref" ]; then
     while read -r name secs; do
-      o=${ours[$name]:-}
-      [ -n "$o" ] || continue
-      printf "%-28s %14.5f %14.5f %9.1fx\n" "$name" "$o" "$secs" "$(/usr/bin/python3 -c "print($secs/$o)")"
+      for case in $(printf "%s\n" "${!ours[@]}" | sort); do
+        [ "$case" = "$name" ] || [ "${case%%/*}" = "$name" ] || continue
+        o=${ours[$case]}
+        printf "%-28s %14.5f %14.5f %9.1fx\n" "$case" "$o" "$secs" "$(/usr/bin/python3 -c "print($secs/$o)")"
+      done
     done < <(/usr/bin/python3 "$ref")
   else
     for name in "${!ours[@]}"; do printf "%-28s %14.5f %14s %10s\n" "$name" "${ours[$name]}" "-" "-"; done

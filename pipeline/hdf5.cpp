@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <limits>
+#include <optional>
 #include <stdexcept>
 
 #include "pipeline/errors.hpp"
@@ -154,6 +155,15 @@ static Id utf8_vlen_string() {
   Id t(H5Tcopy(H5T_C_S1));
   H5Tset_size(t.get(), H5T_VARIABLE);
   H5Tset_cset(t.get(), H5T_CSET_UTF8);
+  return t;
+}
+
+// The memory type to read a file's variable-length strings with: of the file's
+// character set, since libhdf5 will not convert ASCII strings to UTF-8 ones.
+static Id vlen_string_like(hid_t file_type) {
+  Id t(H5Tcopy(H5T_C_S1));
+  H5Tset_size(t.get(), H5T_VARIABLE);
+  H5Tset_cset(t.get(), H5Tget_cset(file_type) == H5T_CSET_ASCII ? H5T_CSET_ASCII : H5T_CSET_UTF8);
   return t;
 }
 
@@ -339,24 +349,61 @@ std::vector<std::int64_t> read_integers(hid_t file, const std::string& path, con
   return read_numeric<std::int64_t>(file, path, file_name, H5T_NATIVE_INT64, nullptr);
 }
 
-// The heap ids of a contiguous dataset are checked in the file's bytes (chunked
-// and compact layouts keep them where only the library can reach them).
-static void check_string_references_before_reading(hid_t file, hid_t ds, const std::string& path,
-                                                   const std::string& file_name, hsize_t n) {
-  Id dcpl(H5Dget_create_plist(ds));
-  if (!dcpl || H5Pget_layout(dcpl.get()) != H5D_CONTIGUOUS) return;
-  const haddr_t offset = H5Dget_offset(ds);
-  if (offset == HADDR_UNDEF) return;
-  Id fcpl(H5Fget_create_plist(file));
+// What the byte-level checks of hdf5_heap_check need to know of the file an
+// object is in: its name on disk, its base address and its address size.
+struct FileLayout {
+  std::string path;
+  hsize_t base = 0;
   std::size_t address = 8, length = 8;
-  hsize_t user_block = 0;
-  if (!fcpl || H5Pget_sizes(fcpl.get(), &address, &length) < 0 || H5Pget_userblock(fcpl.get(), &user_block) < 0)
-    return;
-  const ssize_t name_size = H5Fget_name(file, nullptr, 0);
-  if (name_size <= 0) return;
-  std::string real(static_cast<std::size_t>(name_size), '\0');
-  H5Fget_name(file, real.data(), real.size() + 1);
-  check_string_references(real, file_name, path, {user_block, offset, n, address});
+};
+
+static std::optional<FileLayout> file_layout(hid_t object) {
+  Id file(H5Iget_file_id(object));
+  Id fcpl(H5Fget_create_plist(file.get()));
+  FileLayout l;
+  if (!fcpl || H5Pget_sizes(fcpl.get(), &l.address, &l.length) < 0 || H5Pget_userblock(fcpl.get(), &l.base) < 0)
+    return std::nullopt;
+  const ssize_t name_size = H5Fget_name(file.get(), nullptr, 0);
+  if (name_size <= 0) return std::nullopt;
+  l.path.assign(static_cast<std::size_t>(name_size), '\0');
+  H5Fget_name(file.get(), l.path.data(), l.path.size() + 1);
+  return l;
+}
+
+// The heap ids of a contiguous or compact dataset are checked in the file's
+// bytes (a chunked one keeps them where only the library can reach them).
+static void check_string_references_before_reading(hid_t ds, const std::string& path, const std::string& file_name,
+                                                   hsize_t n) {
+  Id dcpl(H5Dget_create_plist(ds));
+  if (!dcpl) return;
+  const auto l = file_layout(ds);
+  if (!l) return;
+  std::optional<std::uint64_t> data;
+  switch (H5Pget_layout(dcpl.get())) {
+    case H5D_CONTIGUOUS:
+      if (const haddr_t offset = H5Dget_offset(ds); offset != HADDR_UNDEF) data = offset;
+      break;
+    case H5D_COMPACT: {
+      H5O_info_t oi;
+      if (H5Oget_info(ds, &oi) >= 0) data = compact_data_offset(l->path, l->base, oi.addr, l->address, l->length);
+      break;
+    }
+    default: break;
+  }
+  if (data) check_string_references(l->path, file_name, path, {l->base, *data, n, l->address});
+}
+
+// The same for an attribute of variable-length strings, whose heap ids sit in
+// its object's header (attributes in dense storage are out of this walk's reach).
+static void check_attribute_string_references(hid_t file, const char* object, const std::string& name, hsize_t n) {
+  H5O_info_t oi;
+  if (H5Oget_info_by_name(file, object, &oi, H5P_DEFAULT) < 0) return;
+  const auto l = file_layout(file);
+  if (!l) return;
+  const auto data = attribute_data_offset(l->path, l->base, oi.addr, name, l->address, l->length);
+  if (!data) return;
+  const std::string where = std::string(object == std::string("/") ? "" : object) + " attribute '" + name + "'";
+  check_string_references(l->path, l->path, where, {l->base, *data, n, l->address});
 }
 
 std::vector<std::string> read_texts(hid_t file, const std::string& path, const std::string& file_name) {
@@ -368,8 +415,8 @@ std::vector<std::string> read_texts(hid_t file, const std::string& path, const s
   const hsize_t n = checked_elements(file, path, file_name, di, sizeof(char*));
   std::vector<std::string> out;
   if (H5Tis_variable_str(ftype.get()) > 0) {
-    check_string_references_before_reading(file, ds.get(), path, file_name, n);
-    Id t = utf8_vlen_string();
+    check_string_references_before_reading(ds.get(), path, file_name, n);
+    Id t = vlen_string_like(ftype.get());
     std::vector<char*> ptrs(n, nullptr);
     if (n && H5Dread(ds.get(), t.get(), H5S_ALL, H5S_ALL, H5P_DEFAULT, ptrs.data()) < 0)
       throw InputError(file_name, "/" + path + " cannot be read");
@@ -430,7 +477,8 @@ std::optional<AttributeValue> read_attribute(hid_t file, const std::string& obje
     }
     case H5T_STRING: {
       if (H5Tis_variable_str(type.get()) > 0) {
-        Id t = utf8_vlen_string();
+        check_attribute_string_references(file, obj, name, 1);
+        Id t = vlen_string_like(type.get());
         char* p = nullptr;
         if (H5Aread(a.get(), t.get(), &p) < 0) return std::nullopt;
         std::string s = p ? p : "";
@@ -458,7 +506,8 @@ std::vector<std::string> read_text_list_attribute(hid_t file, const std::string&
   hssize_t n = H5Sget_simple_extent_npoints(space.get());
   if (n <= 0 || !attribute_storage_intact(a.get(), type.get(), space.get())) return out;
   if (H5Tis_variable_str(type.get()) > 0) {
-    Id t = utf8_vlen_string();
+    check_attribute_string_references(file, obj, name, static_cast<hsize_t>(n));
+    Id t = vlen_string_like(type.get());
     std::vector<char*> ptrs(static_cast<std::size_t>(n), nullptr);
     if (H5Aread(a.get(), t.get(), ptrs.data()) < 0) return out;
     for (char* p : ptrs) out.emplace_back(p ? p : "");

@@ -4,7 +4,9 @@
 #include <cstdint>
 #include <cstring>
 #include <fstream>
+#include <functional>
 #include <map>
+#include <optional>
 #include <vector>
 
 #include "pipeline/errors.hpp"
@@ -146,12 +148,145 @@ void check_string_references(const std::filesystem::path& path, const std::strin
     auto [it, fresh] = collections.try_emplace(address);
     if (fresh && address <= file_size - refs.base) walk(in, refs.base + address, file_size, lengths, &it->second);
     const auto object = it->second.find(index);
-    if (object == it->second.end() || object->second > length)
+    if (object == it->second.end() || object->second != length)
       throw InputError(name, "damaged HDF5 file: string " + std::to_string(i) + " of /" + dataset +
                                  " refers to object " + std::to_string(index) + " of a global heap collection at byte " +
-                                 std::to_string(refs.base + address) + " that does not hold it" +
-                                 (object == it->second.end() ? "" : " (the object is longer than the string)"));
+                                 std::to_string(refs.base + address) +
+                                 (object == it->second.end()
+                                      ? " that does not hold it"
+                                      : ", which holds " + std::to_string(object->second) + " bytes for a string of " +
+                                            std::to_string(length)));
   }
+}
+
+namespace {
+
+// The HDF5 file format, "IV.A.1 Data Object Headers": version 1 is a 16-byte
+// prefix and messages of type (2), size (2), flags (1), 3 reserved; version 2
+// is "OHDR", optional times and attribute thresholds, the chunk's size, and
+// messages of type (1), size (2), flags (1), creation order (2, when tracked).
+// A continuation message (0x10) names another chunk: the address and length
+// of bare messages (version 1) or of "OCHK", messages and a checksum (2).
+constexpr unsigned kContinuation = 0x10, kAttribute = 0x0C, kLayout = 0x08;
+constexpr unsigned kSharedMessage = 0x02;  // message flags: the message lives in the shared table
+constexpr std::size_t kMaxChunks = 64;
+
+struct Chunk {
+  std::uint64_t at = 0, size = 0;  // the messages' bytes, absolute
+};
+
+std::optional<std::vector<unsigned char>> read_bytes(std::ifstream& in, std::uint64_t at, std::uint64_t n,
+                                                     std::uint64_t file_size) {
+  if (at > file_size || n > file_size - at) return std::nullopt;
+  std::vector<unsigned char> b(n);
+  in.clear();
+  in.seekg(static_cast<std::streamoff>(at));
+  if (!in.read(reinterpret_cast<char*>(b.data()), static_cast<std::streamsize>(n))) return std::nullopt;
+  return b;
+}
+
+// Where the attribute message's data starts within its message ("IV.A.2.m The
+// Attribute Message"): version 1 pads name, datatype and dataspace to 8 bytes,
+// version 3 adds a character-set byte.
+std::optional<std::uint64_t> attribute_data_start(const unsigned char* m, std::uint64_t size,
+                                                  const std::string& name) {
+  if (size < 8) return std::nullopt;
+  const unsigned version = m[0];
+  const std::uint64_t name_size = little_endian(m + 2, 2), type_size = little_endian(m + 4, 2),
+                      space_size = little_endian(m + 6, 2);
+  auto pad = [&](std::uint64_t n) { return version == 1 ? (n + 7) / 8 * 8 : n; };
+  const std::uint64_t name_at = version == 3 ? 9 : version == 1 || version == 2 ? 8 : size;
+  if (name_at >= size || name_size != name.size() + 1 || name_at + name_size > size) return std::nullopt;
+  if (std::memcmp(m + name_at, name.data(), name.size()) != 0 || m[name_at + name.size()] != '\0') return std::nullopt;
+  const std::uint64_t data = name_at + pad(name_size) + pad(type_size) + pad(space_size);
+  return data <= size ? std::optional(data) : std::nullopt;
+}
+
+}  // namespace
+
+// Where a compact dataset's raw data starts within its layout message ("IV.A.2.i
+// The Data Layout Message", version 3: version, class 0, the size (2), the data).
+std::optional<std::uint64_t> compact_data_start(const unsigned char* m, std::uint64_t size) {
+  if (size < 4 || m[0] != 3 || m[1] != 0) return std::nullopt;
+  return 4;
+}
+
+// The first message for which found gives a place in its data, as an offset from base.
+using MessageFinder = std::function<std::optional<std::uint64_t>(unsigned type, const unsigned char*, std::uint64_t)>;
+
+std::optional<std::uint64_t> find_in_header(const std::filesystem::path& path, std::uint64_t base, std::uint64_t header,
+                                            std::size_t address_size, std::size_t length_size,
+                                            const MessageFinder& found) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) return std::nullopt;
+  in.seekg(0, std::ios::end);
+  const auto end = in.tellg();
+  if (end <= 0) return std::nullopt;
+  const auto file_size = static_cast<std::uint64_t>(end);
+  if (base > file_size || header > file_size - base) return std::nullopt;
+  const std::uint64_t at = base + header;
+  const auto prefix = read_bytes(in, at, 16, file_size);
+  if (!prefix) return std::nullopt;
+  const unsigned char* h = prefix->data();
+  const bool v2 = std::memcmp(h, "OHDR", 4) == 0;
+  if (!v2 && h[0] != 1) return std::nullopt;
+  bool creation_order = false;
+  std::vector<Chunk> chunks;
+  if (v2) {
+    if (h[4] != 2) return std::nullopt;
+    const unsigned flags = h[5];
+    creation_order = (flags & 0x04) != 0;
+    std::size_t p = 6 + ((flags & 0x20) ? 16 : 0) + ((flags & 0x10) ? 4 : 0);
+    const std::size_t width = std::size_t{1} << (flags & 0x03);
+    const auto field = read_bytes(in, at + p, width, file_size);
+    if (!field) return std::nullopt;
+    chunks.push_back({at + p + width, little_endian(field->data(), width)});
+  } else {
+    chunks.push_back({at + 16, little_endian(h + 8, 4)});
+  }
+  const std::size_t message_header = v2 ? (creation_order ? 6 : 4) : 8;
+  for (std::size_t c = 0; c < chunks.size() && c < kMaxChunks; ++c) {
+    const auto bytes = read_bytes(in, chunks[c].at, chunks[c].size, file_size);
+    if (!bytes) return std::nullopt;
+    const unsigned char* b = bytes->data();
+    for (std::uint64_t p = 0; p + message_header <= bytes->size();) {
+      const unsigned type = v2 ? b[p] : static_cast<unsigned>(little_endian(b + p, 2));
+      const std::uint64_t size = little_endian(b + p + (v2 ? 1 : 2), 2);
+      const unsigned flags = b[p + (v2 ? 3 : 4)];
+      const std::uint64_t data = p + message_header;
+      if (size > bytes->size() - data) break;  // a damaged message: nothing after it can be trusted
+      if (!(flags & kSharedMessage))
+        if (const auto start = found(type, b + data, size)) return chunks[c].at + data + *start - base;
+      if (type == kContinuation && size >= address_size + length_size) {
+        const std::uint64_t where = little_endian(b + data, address_size),
+                            length = little_endian(b + data + address_size, length_size);
+        // A version 2 continuation chunk: "OCHK", messages, a 4-byte checksum.
+        if (where > file_size - base) break;
+        if (!v2) chunks.push_back({base + where, length});
+        else if (length >= 8) chunks.push_back({base + where + 4, length - 8});
+      }
+      p = data + size;
+    }
+  }
+  return std::nullopt;
+}
+
+std::optional<std::uint64_t> attribute_data_offset(const std::filesystem::path& path, std::uint64_t base,
+                                                   std::uint64_t header, const std::string& attribute,
+                                                   std::size_t address_size, std::size_t length_size) {
+  return find_in_header(path, base, header, address_size, length_size,
+                        [&](unsigned type, const unsigned char* m, std::uint64_t size) {
+                          return type == kAttribute ? attribute_data_start(m, size, attribute) : std::nullopt;
+                        });
+}
+
+std::optional<std::uint64_t> compact_data_offset(const std::filesystem::path& path, std::uint64_t base,
+                                                 std::uint64_t header, std::size_t address_size,
+                                                 std::size_t length_size) {
+  return find_in_header(path, base, header, address_size, length_size,
+                        [](unsigned type, const unsigned char* m, std::uint64_t size) {
+                          return type == kLayout ? compact_data_start(m, size) : std::nullopt;
+                        });
 }
 
 }  // namespace stallscope::h5

@@ -5,6 +5,7 @@
 #include <cstddef>
 #include <cstdint>
 #include <filesystem>
+#include <optional>
 #include <string>
 
 namespace stallscope::h5 {
@@ -24,8 +25,25 @@ struct StringReferences {
 // libhdf5 1.10 reads a heap object by its index without checking that the
 // collection holds it (H5HG_read), and segfaults on a damaged id. Throws
 // InputError(name, ...) naming dataset when an element refers to an object
-// that is not in its collection or is longer than the string.
+// that is not in its collection or whose size is not the string's length
+// (longer, libhdf5 copies past its buffer; shorter, it allocates what the
+// damaged length says, and spends seconds converting).
 void check_string_references(const std::filesystem::path& path, const std::string& name, const std::string& dataset,
                              const StringReferences& refs);
+
+// Where the raw elements (for a string, its heap ids) of the attribute named
+// attribute lie, as an offset from base, found by walking the messages of the
+// object header at header (an offset from base) and its continuations. nullopt
+// when the header does not hold it there (attributes in dense storage, a
+// shared message, or a header this walk cannot follow).
+std::optional<std::uint64_t> attribute_data_offset(const std::filesystem::path& path, std::uint64_t base,
+                                                   std::uint64_t header, const std::string& attribute,
+                                                   std::size_t address_size, std::size_t length_size);
+
+// Where the raw data of a dataset of compact layout lies (in its layout
+// message), as an offset from base; nullopt when the header holds no compact layout.
+std::optional<std::uint64_t> compact_data_offset(const std::filesystem::path& path, std::uint64_t base,
+                                                 std::uint64_t header, std::size_t address_size,
+                                                 std::size_t length_size);
 
 }  // namespace stallscope::h5

@@ -3,6 +3,7 @@
 #include <gtest/gtest.h>
 
 #include "pipeline/errors.hpp"
+#include "pipeline/hdf5.hpp"
 #include "tests/support/test_support.hpp"
 
 namespace stallscope {
@@ -112,6 +113,34 @@ TEST(Archive, IsReadableByH5pyWithUnitsOnEveryNumericDataset) {
   EXPECT_NE(r.out.find(R"("path": "/provenance/inputs/bytes", "shape": [1], "kind": "i", "units": "B", "sum": 13.0)"),
             std::string::npos) << r.out;
   EXPECT_NE(r.out.find(R"({"attr": "/run/chord_m", "value": 0.3})"), std::string::npos) << r.out;
+}
+
+// Other writers (C and MATLAB DAQ software) store ASCII strings; libhdf5 will
+// not convert them to UTF-8, so they are read in their own character set.
+TEST(H5Strings, AsciiVariableLengthStringsOfOtherWritersAreRead) {
+  testing::ScratchDir dir;
+  const auto path = dir / "ascii.h5";
+  {
+    h5::File f = h5::File::create(path);
+    h5::Id type(H5Tcopy(H5T_C_S1));
+    H5Tset_size(type.get(), H5T_VARIABLE);
+    H5Tset_cset(type.get(), H5T_CSET_ASCII);
+    const std::vector<const char*> names = {"alpha_enc", "q_pitot"};
+    const hsize_t n = names.size();
+    h5::Id list(H5Screate_simple(1, &n, nullptr)), scalar(H5Screate(H5S_SCALAR));
+    h5::Id ds(H5Dcreate2(f.id(), "names", type.get(), list.get(), H5P_DEFAULT, H5P_DEFAULT, H5P_DEFAULT));
+    ASSERT_GE(H5Dwrite(ds.get(), type.get(), H5S_ALL, H5S_ALL, H5P_DEFAULT, names.data()), 0);
+    h5::Id channels(H5Acreate2(ds.get(), "channels", type.get(), list.get(), H5P_DEFAULT, H5P_DEFAULT));
+    ASSERT_GE(H5Awrite(channels.get(), type.get(), names.data()), 0);
+    const char* volts = "V";
+    h5::Id units(H5Acreate2(ds.get(), "units", type.get(), scalar.get(), H5P_DEFAULT, H5P_DEFAULT));
+    ASSERT_GE(H5Awrite(units.get(), type.get(), &volts), 0);
+  }
+  h5::File f = h5::File::open_read(path);
+  EXPECT_EQ(h5::read_texts(f.id(), "names", "ascii.h5"), (std::vector<std::string>{"alpha_enc", "q_pitot"}));
+  EXPECT_EQ(h5::read_text_list_attribute(f.id(), "names", "channels"),
+            (std::vector<std::string>{"alpha_enc", "q_pitot"}));
+  EXPECT_EQ(h5::read_attribute(f.id(), "names", "units"), std::optional<AttributeValue>(std::string("V")));
 }
 
 }  // namespace

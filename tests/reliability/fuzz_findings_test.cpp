@@ -10,6 +10,7 @@
 #include "pipeline/errors.hpp"
 #include "pipeline/hdf5.hpp"
 #include "pipeline/hdf5_heap_check.hpp"
+#include "stages/ingest/daq_file.hpp"
 #include "tests/support/test_support.hpp"
 
 namespace stallscope {
@@ -153,6 +154,119 @@ TEST(GlobalHeapCheck, PassesSoundFilesAndRefusesEveryEndlessOrOutOfBoundsWalk) {
   // Object 1 declaring 2^63 bytes: libhdf5 would step outside the collection.
   EXPECT_NE(refused(patched(bytes, first_object + 8, std::uint64_t{1} << 63, 8)).find("past the collection's end"),
             std::string::npos);
+}
+
+// fuzz_archive_bytes: a string *attribute*'s heap id names an object its
+// collection does not hold; libhdf5 1.10 indexed past its object table in
+// H5HG_read under H5Aread (reading /provenance in read_provenance). The heap
+// ids are found in the object header by attribute_data_offset and checked.
+TEST(GlobalHeapCheck, AStringAttributeWhoseHeapObjectIsMissingIsRefusedBeforeLibhdf5ReadsIt) {
+  testing::ScratchDir dir;
+  // Both object header versions: libver earliest writes version 1 headers and
+  // attribute messages, latest version 2 headers and version 3 messages.
+  const auto script = dir.write("attrs.py",
+                                "import h5py, sys\n"
+                                "for path, libver in ((sys.argv[1], 'earliest'), (sys.argv[2], 'latest')):\n"
+                                "    with h5py.File(path, 'w', libver=libver) as f:\n"
+                                "        g = f.create_group('provenance')\n"
+                                "        g.attrs['tool_version'] = '0.9.1'\n"
+                                "        g.attrs['host'] = 'tunnel-pc'\n"
+                                "        g.attrs['stages'] = ['daq', 'cp', 'loads']\n"
+                                "        d = f.create_group('dense')\n"
+                                "        for i in range(20): d.attrs['a%02d' % i] = 'value %d' % i\n");
+  const auto v1 = dir / "v1.h5", v2 = dir / "v2.h5";
+  const testing::CommandResult made =
+      testing::run_python(script, testing::shell_quote(v1.string()) + " " + testing::shell_quote(v2.string()));
+  ASSERT_EQ(made.exit_code, 0) << made.err;
+  for (const auto& sound : {v1, v2}) {
+    SCOPED_TRACE(sound.filename().string());
+    const std::string bytes = testing::read_text(sound);
+    const std::size_t gcol = bytes.find("GCOL");
+    ASSERT_NE(gcol, std::string::npos);
+    // The heap id of "tunnel-pc", found by its bytes alone: length 9, the collection's address, an index.
+    std::size_t id_at = std::string::npos;
+    for (std::uint64_t index = 1; index < 64 && id_at == std::string::npos; ++index)
+      id_at = bytes.find(patched(patched(patched(std::string(16, '\0'), 0, 9, 4), 4, gcol, 8), 12, index, 4));
+    ASSERT_NE(id_at, std::string::npos);
+    {
+      h5::File f = h5::File::open_read(sound);
+      H5O_info_t oi;
+      ASSERT_GE(H5Oget_info_by_name(f.id(), "provenance", &oi, H5P_DEFAULT), 0);
+      EXPECT_EQ(h5::attribute_data_offset(sound, 0, oi.addr, "host", 8, 8), std::optional<std::uint64_t>(id_at));
+      EXPECT_EQ(h5::read_attribute(f.id(), "provenance", "host"), std::optional<AttributeValue>(std::string("tunnel-pc")));
+      EXPECT_EQ(h5::read_text_list_attribute(f.id(), "provenance", "stages"),
+                (std::vector<std::string>{"daq", "cp", "loads"}));
+      EXPECT_FALSE(h5::attribute_data_offset(sound, 0, oi.addr, "hos", 8, 8).has_value());
+      // Twenty attributes: dense storage in the version 2 file, out of the walk's reach but still read.
+      EXPECT_EQ(h5::read_attribute(f.id(), "dense", "a17"), std::optional<AttributeValue>(std::string("value 17")));
+    }
+    const auto damaged = dir / "damaged.h5";
+    std::ofstream(damaged, std::ios::binary) << patched(bytes, id_at + 12, 77, 4);
+    h5::File f = h5::File::open_read(damaged);
+    if (sound == v2) {
+      // A version 2 header carries a checksum, and libhdf5 refuses the damaged header itself.
+      EXPECT_FALSE(h5::read_attribute(f.id(), "provenance", "host").has_value());
+      continue;
+    }
+    const std::string e = input_error([&] { (void)h5::read_attribute(f.id(), "provenance", "host"); });
+    EXPECT_NE(e.find("damaged.h5: damaged HDF5 file: string 0 of /provenance attribute 'host' refers to object 77"),
+              std::string::npos)
+        << e;
+    const auto version = h5::read_attribute(f.id(), "provenance", "tool_version");
+    ASSERT_TRUE(version.has_value());
+    EXPECT_EQ(std::get<std::string>(*version), "0.9.1");
+  }
+}
+
+// The same damage in a string dataset of compact layout, whose heap ids sit in its layout message.
+TEST(GlobalHeapCheck, ACompactStringDatasetWhoseHeapObjectIsMissingIsRefusedBeforeLibhdf5ReadsIt) {
+  testing::ScratchDir dir;
+  const auto sound = dir / "compact.h5";
+  {
+    h5::File f = h5::File::create(sound);
+    const std::vector<const char*> names = {"alpha_enc", "q_pitot", "p01"};
+    const hsize_t n = names.size();
+    h5::Id space(H5Screate_simple(1, &n, nullptr));
+    h5::Id dcpl(H5Pcreate(H5P_DATASET_CREATE));
+    ASSERT_GE(H5Pset_layout(dcpl.get(), H5D_COMPACT), 0);
+    h5::Id type(H5Tcopy(H5T_C_S1));
+    H5Tset_size(type.get(), H5T_VARIABLE);
+    H5Tset_cset(type.get(), H5T_CSET_UTF8);
+    h5::Id ds(H5Dcreate2(f.id(), "names", type.get(), space.get(), H5P_DEFAULT, dcpl.get(), H5P_DEFAULT));
+    ASSERT_GE(H5Dwrite(ds.get(), type.get(), H5S_ALL, H5S_ALL, H5P_DEFAULT, names.data()), 0);
+  }
+  {
+    h5::File f = h5::File::open_read(sound);
+    EXPECT_EQ(h5::read_texts(f.id(), "names", "compact.h5"), (std::vector<std::string>{"alpha_enc", "q_pitot", "p01"}));
+  }
+  const std::string bytes = testing::read_text(sound);
+  const std::size_t gcol = bytes.find("GCOL");
+  ASSERT_NE(gcol, std::string::npos);
+  // The heap id of "q_pitot" (length 7), found by its bytes alone.
+  std::size_t id_at = std::string::npos;
+  for (std::uint64_t index = 1; index < 64 && id_at == std::string::npos; ++index)
+    id_at = bytes.find(patched(patched(patched(std::string(16, '\0'), 0, 7, 4), 4, gcol, 8), 12, index, 4));
+  ASSERT_NE(id_at, std::string::npos);
+  const auto damaged = dir / "damaged.h5";
+  std::ofstream(damaged, std::ios::binary) << patched(bytes, id_at + 12, 77, 4);
+  h5::File f = h5::File::open_read(damaged);
+  const std::string e = input_error([&] { (void)h5::read_texts(f.id(), "names", "damaged.h5"); });
+  EXPECT_NE(e.find("damaged.h5: damaged HDF5 file: string 1 of /names refers to object 77"), std::string::npos) << e;
+}
+
+// fuzz_archive_bytes and fuzz_daq_hdf5: a string attribute whose heap id's length
+// disagrees with its heap object. libhdf5 1.10 spent ~16 s converting the first
+// and asked malloc for 895 MB for the second; both are refused before H5Aread.
+TEST(FuzzFinding, AStringWhoseLengthDisagreesWithItsHeapObjectIsRefused) {
+  const std::string slow = input_error([] { (void)read_provenance(kFindings / "libhdf5_vlen_conversion_slow_archive.h5"); });
+  EXPECT_NE(slow.find("damaged HDF5 file: string 0 of /provenance/calibrations attribute 'columns' refers to object 17"),
+            std::string::npos)
+      << slow;
+  EXPECT_NE(slow.find("bytes for a string of"), std::string::npos) << slow;
+  const std::string huge =
+      input_error([] { (void)read_daq_file(kFindings / "libhdf5_vlen_attribute_huge_allocation_daq.h5"); });
+  EXPECT_NE(huge.find("libhdf5_vlen_attribute_huge_allocation_daq.h5: damaged HDF5 file: string"), std::string::npos)
+      << huge;
 }
 
 }  // namespace

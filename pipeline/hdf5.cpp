@@ -222,9 +222,13 @@ void write_text_list_attribute(hid_t object, const std::string& name, const std:
   if (n) check(H5Awrite(a.get(), t.get(), ptrs.data()), "write attribute " + name);
 }
 
+static void check_attributes_of(hid_t file, const char* object);
+
 bool has_attribute(hid_t file, const std::string& object_path, const std::string& name) {
   if (!object_path.empty() && !exists(file, object_path)) return false;
-  return H5Aexists_by_name(file, object_path.empty() ? "/" : object_path.c_str(), name.c_str(), H5P_DEFAULT) > 0;
+  const char* obj = object_path.empty() ? "/" : object_path.c_str();
+  check_attributes_of(file, obj);
+  return H5Aexists_by_name(file, obj, name.c_str(), H5P_DEFAULT) > 0;
 }
 
 bool exists(hid_t file, const std::string& path) {
@@ -393,11 +397,21 @@ static void check_string_references_before_reading(hid_t ds, const std::string& 
   if (data) check_string_references(l->path, file_name, path, {l->base, *data, n, l->address});
 }
 
+// Every attribute message of the object checked before libhdf5 decodes them to
+// find one (it copies past its buffer on a damaged one).
+static void check_attributes_of(hid_t file, const char* object) {
+  H5O_info_t oi;
+  if (H5Oget_info_by_name2(file, object, &oi, H5O_INFO_BASIC, H5P_DEFAULT) < 0) return;
+  if (const auto l = file_layout(file))
+    check_attribute_messages(l->path, l->path, std::string(object).substr(object[0] == '/' ? 1 : 0), l->base, oi.addr,
+                             l->address, l->length);
+}
+
 // The same for an attribute of variable-length strings, whose heap ids sit in
 // its object's header (attributes in dense storage are out of this walk's reach).
 static void check_attribute_string_references(hid_t file, const char* object, const std::string& name, hsize_t n) {
   H5O_info_t oi;
-  if (H5Oget_info_by_name(file, object, &oi, H5P_DEFAULT) < 0) return;
+  if (H5Oget_info_by_name2(file, object, &oi, H5O_INFO_BASIC, H5P_DEFAULT) < 0) return;
   const auto l = file_layout(file);
   if (!l) return;
   const auto data = attribute_data_offset(l->path, l->base, oi.addr, name, l->address, l->length);
@@ -458,6 +472,7 @@ static bool attribute_storage_intact(hid_t attr, hid_t type, hid_t space) {
 std::optional<AttributeValue> read_attribute(hid_t file, const std::string& object_path, const std::string& name) {
   const char* obj = object_path.empty() ? "/" : object_path.c_str();
   if (!object_path.empty() && !exists(file, object_path)) return std::nullopt;
+  check_attributes_of(file, obj);
   if (H5Aexists_by_name(file, obj, name.c_str(), H5P_DEFAULT) <= 0) return std::nullopt;
   Id a(H5Aopen_by_name(file, obj, name.c_str(), H5P_DEFAULT, H5P_DEFAULT));
   Id type(H5Aget_type(a.get()));
@@ -498,6 +513,7 @@ std::vector<std::string> read_text_list_attribute(hid_t file, const std::string&
                                                   const std::string& name) {
   const char* obj = object_path.empty() ? "/" : object_path.c_str();
   std::vector<std::string> out;
+  check_attributes_of(file, obj);
   if (H5Aexists_by_name(file, obj, name.c_str(), H5P_DEFAULT) <= 0) return out;
   Id a(H5Aopen_by_name(file, obj, name.c_str(), H5P_DEFAULT, H5P_DEFAULT));
   Id type(H5Aget_type(a.get()));
@@ -529,6 +545,7 @@ std::vector<std::string> attribute_names(hid_t file, const std::string& object_p
   std::vector<std::string> names;
   Id obj(H5Oopen(file, object_path.empty() ? "/" : object_path.c_str(), H5P_DEFAULT));
   if (!obj) return names;
+  check_attributes_of(file, object_path.empty() ? "/" : object_path.c_str());
   H5Aiterate2(
       obj.get(), H5_INDEX_NAME, H5_ITER_INC, nullptr,
       [](hid_t, const char* name, const H5A_info_t*, void* out) -> herr_t {

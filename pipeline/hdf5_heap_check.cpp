@@ -7,6 +7,7 @@
 #include <functional>
 #include <map>
 #include <optional>
+#include <variant>
 #include <vector>
 
 #include "pipeline/errors.hpp"
@@ -188,18 +189,34 @@ std::optional<std::vector<unsigned char>> read_bytes(std::ifstream& in, std::uin
 // Where the attribute message's data starts within its message ("IV.A.2.m The
 // Attribute Message"): version 1 pads name, datatype and dataspace to 8 bytes,
 // version 3 adds a character-set byte.
-std::optional<std::uint64_t> attribute_data_start(const unsigned char* m, std::uint64_t size,
-                                                  const std::string& name) {
-  if (size < 8) return std::nullopt;
+struct AttributeParts {
+  std::uint64_t name_at = 0, name_size = 0, data_at = 0;
+};
+
+// The parts of an attribute message, or why it is damaged.
+std::variant<AttributeParts, std::string> attribute_parts(const unsigned char* m, std::uint64_t size) {
+  if (size < 8) return "is " + std::to_string(size) + " bytes, shorter than its own header";
   const unsigned version = m[0];
+  if (version < 1 || version > 3) return "has version " + std::to_string(version) + " (1 to 3 exist)";
   const std::uint64_t name_size = little_endian(m + 2, 2), type_size = little_endian(m + 4, 2),
                       space_size = little_endian(m + 6, 2);
   auto pad = [&](std::uint64_t n) { return version == 1 ? (n + 7) / 8 * 8 : n; };
-  const std::uint64_t name_at = version == 3 ? 9 : version == 1 || version == 2 ? 8 : size;
-  if (name_at >= size || name_size != name.size() + 1 || name_at + name_size > size) return std::nullopt;
-  if (std::memcmp(m + name_at, name.data(), name.size()) != 0 || m[name_at + name.size()] != '\0') return std::nullopt;
-  const std::uint64_t data = name_at + pad(name_size) + pad(type_size) + pad(space_size);
-  return data <= size ? std::optional(data) : std::nullopt;
+  AttributeParts a{version == 3 ? 9u : 8u, name_size, 0};
+  a.data_at = a.name_at + pad(name_size) + pad(type_size) + pad(space_size);
+  if (a.data_at > size)
+    return "declares a name of " + std::to_string(name_size) + ", a type of " + std::to_string(type_size) +
+           " and a dataspace of " + std::to_string(space_size) + " bytes, more than its " + std::to_string(size);
+  if (name_size == 0 || m[a.name_at + name_size - 1] != '\0') return "has a name that does not end where it says";
+  return a;
+}
+
+std::optional<std::uint64_t> attribute_data_start(const unsigned char* m, std::uint64_t size,
+                                                  const std::string& name) {
+  const auto parts = attribute_parts(m, size);
+  const AttributeParts* a = std::get_if<AttributeParts>(&parts);
+  if (!a || a->name_size != name.size() + 1 || std::memcmp(m + a->name_at, name.data(), name.size()) != 0)
+    return std::nullopt;
+  return a->data_at;
 }
 
 }  // namespace
@@ -287,6 +304,20 @@ std::optional<std::uint64_t> compact_data_offset(const std::filesystem::path& pa
                         [](unsigned type, const unsigned char* m, std::uint64_t size) {
                           return type == kLayout ? compact_data_start(m, size) : std::nullopt;
                         });
+}
+
+void check_attribute_messages(const std::filesystem::path& path, const std::string& name, const std::string& object,
+                              std::uint64_t base, std::uint64_t header, std::size_t address_size,
+                              std::size_t length_size) {
+  find_in_header(path, base, header, address_size, length_size,
+                 [&](unsigned type, const unsigned char* m, std::uint64_t size) -> std::optional<std::uint64_t> {
+                   if (type != kAttribute) return std::nullopt;
+                   const auto parts = attribute_parts(m, size);
+                   if (const std::string* why = std::get_if<std::string>(&parts))
+                     throw InputError(name, "damaged HDF5 file: an attribute message in the header of /" + object +
+                                                " " + *why);
+                   return std::nullopt;
+                 });
 }
 
 }  // namespace stallscope::h5

@@ -40,6 +40,14 @@ std::optional<std::uint64_t> attribute_data_offset(const std::filesystem::path& 
                                                    std::uint64_t header, const std::string& attribute,
                                                    std::size_t address_size, std::size_t length_size);
 
+// libhdf5 1.10 decodes every attribute message of an object to find one by
+// name (H5Aexists_by_name, H5Aopen_by_name) and copies past its buffer when a
+// message declares parts longer than itself. Throws InputError(name, ...)
+// naming object when an attribute message in the header at header is so damaged.
+void check_attribute_messages(const std::filesystem::path& path, const std::string& name, const std::string& object,
+                              std::uint64_t base, std::uint64_t header, std::size_t address_size,
+                              std::size_t length_size);
+
 // Where the raw data of a dataset of compact layout lies (in its layout
 // message), as an offset from base; nullopt when the header holds no compact layout.
 std::optional<std::uint64_t> compact_data_offset(const std::filesystem::path& path, std::uint64_t base,

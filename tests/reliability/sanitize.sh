@@ -1,5 +1,6 @@
 #!/bin/sh
-# The whole test suite under AddressSanitizer + UndefinedBehaviorSanitizer,
+# The test suite (all but the coverage-rate checks, see below) under
+# AddressSanitizer + UndefinedBehaviorSanitizer,
 # in a build folder of its own. UB is fatal (-fno-sanitize-recover), so a
 # sanitizer report fails its test. Exit status: ctest's.
 #
@@ -27,4 +28,7 @@ cmake --build "$build" -j"${BUILD_JOBS:-2}"
 export ASAN_OPTIONS=${ASAN_OPTIONS:-detect_leaks=1:check_initialization_order=1:strict_init_order=1}
 export LSAN_OPTIONS=${LSAN_OPTIONS:-suppressions=$here/lsan.supp:print_suppressions=0}
 export UBSAN_OPTIONS=${UBSAN_OPTIONS:-print_stacktrace=1:halt_on_error=1}
-ctest --test-dir "$build" --output-on-failure -j"${TEST_JOBS:-2}" --timeout 900
+# The coverage-rate checks (names ending "StatedRate") repeat one reduction or
+# fit hundreds of times to count how often an interval covers the truth: the
+# release suite runs them; here they would add a minute and no code path.
+ctest --test-dir "$build" --output-on-failure -j"${TEST_JOBS:-2}" --timeout 900 -E 'StatedRate$'

@@ -14,7 +14,7 @@ case "$mode" in demo|test) ;; *) usage ;; esac
 packages=(
   cmake g++ make pkg-config git
   libeigen3-dev libfftw3-dev libhdf5-dev libtomlplusplus-dev libcli11-dev libfmt-dev
-  libcairo2-dev libssl-dev libopencv-imgproc-dev libopencv-calib3d-dev
+  libcairo2-dev libssl-dev libdeflate-dev libopencv-imgproc-dev libopencv-calib3d-dev
   libgtest-dev libbenchmark-dev
   libopenmpi-dev openmpi-bin
   python3 python3-numpy python3-scipy python3-h5py python3-pil

@@ -1,11 +1,14 @@
 #include "pipeline/hdf5.hpp"
 
 #include <algorithm>
+#include <cstdint>
+#include <cstring>
 #include <limits>
 #include <optional>
 #include <stdexcept>
 
 #include "pipeline/errors.hpp"
+#include "pipeline/hdf5_chunks.hpp"
 #include "pipeline/hdf5_heap_check.hpp"
 
 namespace stallscope::h5 {
@@ -335,18 +338,60 @@ std::vector<float> read_floats(hid_t file, const std::string& path, const std::s
   return read_numeric<float>(file, path, file_name, H5T_NATIVE_FLOAT, dims);
 }
 
-void read_rows(hid_t file, const std::string& path, const std::string& file_name, hsize_t row0, hsize_t rows,
-               double* out) {
-  DatasetInfo di = info(file, path, file_name);
-  if (di.dims.size() != 2 || row0 + rows > di.dims[0])
-    throw std::logic_error("read_rows outside /" + path + " in " + file_name);
-  Id ds = open_dataset(file, path, file_name);
-  Id fspace(H5Dget_space(ds.get()));
-  hsize_t start[2] = {row0, 0}, count[2] = {rows, di.dims[1]};
-  H5Sselect_hyperslab(fspace.get(), H5S_SELECT_SET, start, nullptr, count, nullptr);
-  Id mspace(H5Screate_simple(2, count, nullptr));
-  if (rows && H5Dread(ds.get(), H5T_NATIVE_DOUBLE, mspace.get(), fspace.get(), H5P_DEFAULT, out) < 0)
-    throw InputError(file_name, "/" + path + " cannot be read (truncated file?)");
+RowReader::RowReader(hid_t file, const std::string& path, const std::string& file_name)
+    : path_(path), file_name_(file_name) {
+  const DatasetInfo di = info(file, path, file_name);
+  if (di.dims.size() != 2) throw std::logic_error("RowReader: /" + path + " in " + file_name + " is not 2-D");
+  dims_[0] = di.dims[0];
+  dims_[1] = di.dims[1];
+  dataset_ = open_dataset(file, path, file_name);
+  space_ = Id(H5Dget_space(dataset_.get()));
+  Id dcpl(H5Dget_create_plist(dataset_.get()));
+  hsize_t chunk[2] = {0, 0};
+  if (dcpl && H5Pget_layout(dcpl.get()) == H5D_CHUNKED && H5Pget_chunk(dcpl.get(), 2, chunk) == 2) {
+    chunk_rows_ = chunk[0];
+    ChunkCoding coding;
+    own_decoder_ = chunk[1] == dims_[1] && chunk_rows_ > 0 && chunk_coding(dataset_.get(), coding);
+    shuffled_ = coding.shuffled;
+    deflated_ = coding.deflated;
+  }
+}
+
+hsize_t RowReader::block_rows(hsize_t wanted) const {
+  if (chunk_rows_ == 0) return std::max<hsize_t>(1, wanted);
+  return chunk_rows_ * std::max<hsize_t>(1, (wanted + chunk_rows_ / 2) / chunk_rows_);
+}
+
+bool RowReader::read_decoded(hsize_t row0, hsize_t count, double* out) const {
+  if (!own_decoder_ || row0 % chunk_rows_ != 0) return false;
+  const std::size_t row_bytes = dims_[1] * sizeof(double), chunk_bytes = chunk_rows_ * row_bytes;
+  std::vector<unsigned char> raw, scratch, whole;
+  for (hsize_t start = row0; start < row0 + count; start += chunk_rows_) {
+    hsize_t offset[2] = {start, 0}, stored = 0;
+    // An unwritten chunk (fill values) or an absurd size: libhdf5's own read decides.
+    if (H5Dget_chunk_storage_size(dataset_.get(), offset, &stored) < 0 || stored == 0 || stored > (hsize_t{1} << 31))
+      return false;
+    raw.resize(stored);
+    std::uint32_t mask = 0;
+    if (H5Dread_chunk(dataset_.get(), H5P_DEFAULT, offset, &mask, raw.data()) < 0) return false;
+    const hsize_t rows = std::min(chunk_rows_, row0 + count - start);
+    auto* target = reinterpret_cast<unsigned char*>(out + (start - row0) * dims_[1]);
+    // The last chunk of the dataset is stored whole, past the rows it holds.
+    unsigned char* into = rows == chunk_rows_ ? target : (whole.resize(chunk_bytes), whole.data());
+    if (!decode_chunk({shuffled_, deflated_}, mask, raw, into, chunk_bytes, scratch)) return false;
+    if (into != target) std::memcpy(target, into, rows * row_bytes);
+  }
+  return true;
+}
+
+void RowReader::read(hsize_t row0, hsize_t count, double* out) const {
+  if (row0 + count > dims_[0]) throw std::logic_error("RowReader outside /" + path_ + " in " + file_name_);
+  if (count == 0 || read_decoded(row0, count, out)) return;
+  hsize_t start[2] = {row0, 0}, extent[2] = {count, dims_[1]};
+  H5Sselect_hyperslab(space_.get(), H5S_SELECT_SET, start, nullptr, extent, nullptr);
+  Id memory(H5Screate_simple(2, extent, nullptr));
+  if (H5Dread(dataset_.get(), H5T_NATIVE_DOUBLE, memory.get(), space_.get(), H5P_DEFAULT, out) < 0)
+    throw InputError(file_name_, "/" + path_ + " cannot be read (truncated file?)");
 }
 
 std::vector<std::int64_t> read_integers(hid_t file, const std::string& path, const std::string& file_name) {

@@ -81,9 +81,31 @@ std::vector<double> read_numbers(hid_t file, const std::string& path, const std:
                                  std::vector<hsize_t>* dims = nullptr);
 std::vector<float> read_floats(hid_t file, const std::string& path, const std::string& file_name,
                                std::vector<hsize_t>* dims = nullptr);
-// Rows [row0, row0 + rows) of a 2-D numeric dataset, row-major into out.
-void read_rows(hid_t file, const std::string& path, const std::string& file_name, hsize_t row0, hsize_t rows,
-               double* out);
+// A 2-D numeric dataset read a block of rows at a time through one open
+// dataset. Blocks of whole chunks (block_rows) decompress each chunk once.
+class RowReader {
+ public:
+  RowReader(hid_t file, const std::string& path, const std::string& file_name);
+  hsize_t rows() const { return dims_[0]; }
+  hsize_t columns() const { return dims_[1]; }
+  // About `wanted` rows, rounded to whole chunks of the dataset (at least one).
+  hsize_t block_rows(hsize_t wanted) const;
+  // Rows [row0, row0 + count), row-major into out.
+  void read(hsize_t row0, hsize_t count, double* out) const;
+  // The same by hdf5_chunks' decoder, when the dataset is a chunked one of
+  // doubles, shuffled and deflated or not, chunks spanning every column, and
+  // row0 starts a chunk; false otherwise or on a damaged chunk (read() then
+  // leaves it to libhdf5).
+  bool read_decoded(hsize_t row0, hsize_t count, double* out) const;
+
+ private:
+
+  std::string path_, file_name_;
+  Id dataset_, space_;
+  hsize_t dims_[2] = {0, 0}, chunk_rows_ = 0;
+  bool own_decoder_ = false;  // chunks span every column and hdf5_chunks can decode them
+  bool shuffled_ = false, deflated_ = false;
+};
 std::vector<std::int64_t> read_integers(hid_t file, const std::string& path, const std::string& file_name);
 std::vector<std::string> read_texts(hid_t file, const std::string& path, const std::string& file_name);
 std::optional<AttributeValue> read_attribute(hid_t file, const std::string& object_path, const std::string& name);

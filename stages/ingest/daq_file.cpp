@@ -160,11 +160,12 @@ DaqRecord read_daq_hdf5(const fs::path& path) {
   // store keeps one contiguous column per channel.
   const auto n = static_cast<Eigen::Index>(vdims[0]), channels = static_cast<Eigen::Index>(vdims[1]);
   r.volts.resize(n, channels);
-  constexpr Eigen::Index kBlock = 4096;
-  Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor> block(std::min(kBlock, n), channels);
-  for (Eigen::Index row0 = 0; row0 < n; row0 += kBlock) {
-    const Eigen::Index rows = std::min(kBlock, n - row0);
-    h5::read_rows(f.id(), "daq/volts", fn, static_cast<hsize_t>(row0), static_cast<hsize_t>(rows), block.data());
+  const h5::RowReader reader(f.id(), "daq/volts", fn);
+  const auto block_rows = static_cast<Eigen::Index>(reader.block_rows(4096));
+  Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, Eigen::RowMajor> block(std::min(block_rows, n), channels);
+  for (Eigen::Index row0 = 0; row0 < n; row0 += block_rows) {
+    const Eigen::Index rows = std::min(block_rows, n - row0);
+    reader.read(static_cast<hsize_t>(row0), static_cast<hsize_t>(rows), block.data());
     r.volts.middleRows(row0, rows) = block.topRows(rows);
   }
   return r;

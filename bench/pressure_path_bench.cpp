@@ -14,6 +14,7 @@
 #include <numbers>
 
 #include "bench/bench_support.hpp"
+#include "pipeline/allocator.hpp"
 #include "pipeline/config.hpp"
 #include "pipeline/hdf5.hpp"
 #include "pipeline/run_context.hpp"
@@ -89,6 +90,7 @@ const char* kConfig =
 
 void BM_PressurePath(benchmark::State& state) {
   make_inputs();
+  keep_large_blocks_for_reuse();  // as the command does
   const ConfigFile config = ConfigFile::parse(kConfig, bench_dir() / "bench.toml");
   for (auto _ : state) {
     RunStore store;
@@ -115,6 +117,7 @@ BENCHMARK(BM_PressurePath)->Arg(1)->Arg(2)->Unit(benchmark::kMillisecond)->UseRe
 
 void BM_ReadPressureDaq(benchmark::State& state) {
   make_inputs();
+  keep_large_blocks_for_reuse();
   for (auto _ : state) benchmark::DoNotOptimize(read_daq_file(bench_dir() / "pressure_daq.h5"));
 }
 BENCHMARK(BM_ReadPressureDaq)->Unit(benchmark::kMillisecond);

@@ -8,6 +8,7 @@
 #include <iostream>
 
 #include "calib/calib_command.hpp"
+#include "pipeline/allocator.hpp"
 #include "pipeline/errors.hpp"
 #include "pipeline/campaign/campaign.hpp"
 #include "pipeline/inspect.hpp"
@@ -139,6 +140,7 @@ int run(int argc, char** argv) {
 }  // namespace
 
 int main(int argc, char** argv) {
+  stallscope::keep_large_blocks_for_reuse();
   try {
     return run(argc, argv);
   } catch (const stallscope::InputError& e) {

@@ -230,9 +230,9 @@ void CalibrateStage::run(RunContext& context) {
     offsets[channel] = d;
   }
   auto physical = [&](const std::string& channel, const Calibrated& c) {
-    Eigen::VectorXd v = volts.values.col(channel_column(channel));
+    const auto v = volts.values.col(channel_column(channel));
     auto it = offsets.find(channel);
-    if (it != offsets.end() && it->second != 0.0) v = shift_samples(v, -it->second * rate);
+    if (it != offsets.end() && it->second != 0.0) return c.cal->evaluate(shift_samples(v, -it->second * rate));
     return c.cal->evaluate(v);
   };
 
@@ -296,7 +296,7 @@ void CalibrateStage::run(RunContext& context) {
     calib::WindOffZero z;
     if (zero) z = tare(p, what);
     perturb(p, channel, *c.cal, shared_gain, z);
-    return std::pair{p, z};
+    return std::pair{std::move(p), z};
   };
 
   // Taps.

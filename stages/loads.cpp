@@ -114,10 +114,14 @@ void LoadsStage::run(RunContext& context) {
       options_.te_closure == "mean" ? TrailingEdgeClosure::kMean : TrailingEdgeClosure::kExtrapolate;
   const LoadWeights w = contour_weights(points, closure, pivot);
 
-  const Eigen::VectorXd cn = cp.values * w.cn;
-  Eigen::VectorXd cc = cp.values * w.cc;
-  Eigen::VectorXd cm = cp.values * w.cm_quarter_chord;
-  Eigen::VectorXd cm_pivot = cp.values * w.cm_pivot;
+  // All four loads in one pass over the Cp record.
+  Eigen::MatrixXd weights(w.cn.size(), 4);
+  weights << w.cn, w.cc, w.cm_quarter_chord, w.cm_pivot;
+  const Eigen::MatrixXd loads = cp.values * weights;
+  const Eigen::VectorXd cn = loads.col(0);
+  Eigen::VectorXd cc = loads.col(1);
+  Eigen::VectorXd cm = loads.col(2);
+  Eigen::VectorXd cm_pivot = loads.col(3);
   const Eigen::ArrayXd a = alpha.array() * (std::numbers::pi / 180.0);
   const Eigen::VectorXd cl = (cn.array() * a.cos() - cc.array() * a.sin()).matrix();
   Eigen::VectorXd cd = (cn.array() * a.sin() + cc.array() * a.cos()).matrix();

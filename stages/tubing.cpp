@@ -50,6 +50,13 @@ class SpectralFilter {
 
   // gains[k] multiplies bin k. The end-to-end line is taken out first and put back after.
   Eigen::VectorXd run(const Eigen::VectorXd& x, const std::vector<std::complex<double>>& gains) const {
+    Eigen::VectorXd y(n_);
+    run(x, gains, y);
+    return y;
+  }
+  // The same into y (a column of the corrected record), with no copies between.
+  void run(Eigen::Ref<const Eigen::VectorXd> x, const std::vector<std::complex<double>>& gains,
+           Eigen::Ref<Eigen::VectorXd> y) const {
     double* in = fftw_alloc_real(static_cast<std::size_t>(nfft_));
     fftw_complex* spec = fftw_alloc_complex(static_cast<std::size_t>(bins()));
     const double x0 = x[0], slope = n_ > 1 ? (x[n_ - 1] - x[0]) / (n_ - 1) : 0.0;
@@ -62,11 +69,9 @@ class SpectralFilter {
       spec[k][1] = v.imag();
     }
     fftw_execute_dft_c2r(inverse_, spec, in);
-    Eigen::VectorXd y(n_);
     for (int i = 0; i < n_; ++i) y[i] = in[i] / nfft_ + x0 + slope * i;
     fftw_free(in);
     fftw_free(spec);
-    return y;
   }
 
  private:
@@ -260,7 +265,7 @@ void TubingStage::run(RunContext& context) {
     for (int i = 0; i < count; ++i) {
       const auto k = static_cast<std::size_t>(i);
       if (model[k] == "none") continue;
-      corrected.values.col(i) = filter->run(raw.values.col(i), gains.at(key[k]));
+      filter->run(raw.values.col(i), gains.at(key[k]), corrected.values.col(i));
     }
   }
 

@@ -49,9 +49,10 @@ double ChannelCalibration::evaluate(double v) const {
   return p;
 }
 
-Eigen::VectorXd ChannelCalibration::evaluate(const Eigen::VectorXd& v) const {
-  Eigen::VectorXd p = Eigen::VectorXd::Zero(v.size());
-  for (auto it = coefficients.rbegin(); it != coefficients.rend(); ++it) p = (p.array() * v.array() + *it).matrix();
+Eigen::VectorXd ChannelCalibration::evaluate(Eigen::Ref<const Eigen::VectorXd> v) const {
+  // Horner's rule, as the scalar form, from the leading coefficient (a pass saved).
+  Eigen::VectorXd p = Eigen::VectorXd::Constant(v.size(), coefficients.empty() ? 0.0 : coefficients.back());
+  for (std::size_t k = coefficients.size(); k-- > 1;) p.array() = p.array() * v.array() + coefficients[k - 1];
   return p;
 }
 

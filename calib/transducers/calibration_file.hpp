@@ -30,7 +30,7 @@ struct ChannelCalibration {
 
   // c0 + c1 v + ... (Horner).
   double evaluate(double volts) const;
-  Eigen::VectorXd evaluate(const Eigen::VectorXd& volts) const;
+  Eigen::VectorXd evaluate(Eigen::Ref<const Eigen::VectorXd> volts) const;
   // The thermal sensitivity correction factor 1/(1 + tc (T - Tref)).
   double temperature_factor(double temperature_c) const;
 };

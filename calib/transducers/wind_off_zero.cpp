@@ -1,6 +1,8 @@
 #include "calib/transducers/wind_off_zero.hpp"
 
+#include <algorithm>
 #include <stdexcept>
+#include <utility>
 
 namespace stallscope::calib {
 
@@ -11,22 +13,36 @@ double WindOffZero::at(double t) const {
 }
 
 Eigen::VectorXd WindOffZero::at(const Eigen::VectorXd& t) const {
-  Eigen::VectorXd z(t.size());
-  for (Eigen::Index i = 0; i < t.size(); ++i) z[i] = at(t[i]);
-  return z;
+  if (!has_after) return Eigen::VectorXd::Constant(t.size(), before);
+  // The scalar at() for every sample, in Eigen's lanes.
+  const Eigen::ArrayXd ramp = before + (after - before) * (t.array() - t_before) / (t_after - t_before);
+  return (t.array() <= t_before).select(before, (t.array() >= t_after).select(after, ramp)).matrix();
 }
 
+namespace {
+
+// The samples [first, last) of an increasing time base inside the window.
+std::pair<Eigen::Index, Eigen::Index> window_span(const Eigen::VectorXd& t, const TimeWindow& w) {
+  const double* begin = t.data();
+  const double* end = begin + t.size();
+  const double* first = std::lower_bound(begin, end, w.start_s);
+  const double* last = std::upper_bound(first, end, w.end_s);
+  return {first - begin, last - begin};
+}
+
+}  // namespace
+
 Eigen::Index window_samples(const Eigen::VectorXd& t, const TimeWindow& w) {
-  return ((t.array() >= w.start_s) && (t.array() <= w.end_s)).count();
+  const auto [first, last] = window_span(t, w);
+  return last - first;
 }
 
 double window_mean(const Eigen::VectorXd& t, const Eigen::VectorXd& x, const TimeWindow& w) {
-  double sum = 0.0;
-  Eigen::Index n = 0;
-  for (Eigen::Index i = 0; i < t.size(); ++i)
-    if (t[i] >= w.start_s && t[i] <= w.end_s) sum += x[i], ++n;
-  if (n == 0) throw std::invalid_argument("the window holds no sample");
-  return sum / static_cast<double>(n);
+  const auto [first, last] = window_span(t, w);
+  if (last == first) throw std::invalid_argument("the window holds no sample");
+  double sum = 0.0;  // in time order, as a plain loop adds them
+  for (Eigen::Index i = first; i < last; ++i) sum += x[i];
+  return sum / static_cast<double>(last - first);
 }
 
 WindOffZero wind_off_zero(const Eigen::VectorXd& t, const Eigen::VectorXd& x, const TimeWindow& before,

@@ -23,8 +23,9 @@ struct WindOffZero {
   Eigen::VectorXd at(const Eigen::VectorXd& t) const;
 };
 
-// Mean of x over samples with t in [start, end]; throws std::invalid_argument if
-// the window holds no sample (callers turn that into an InputError on their key).
+// Mean of x over samples with t in [start, end] of an increasing time base (as
+// every DAQ record is checked to be); throws std::invalid_argument if the
+// window holds no sample (callers turn that into an InputError on their key).
 double window_mean(const Eigen::VectorXd& t, const Eigen::VectorXd& x, const TimeWindow& w);
 // Number of samples in the window.
 Eigen::Index window_samples(const Eigen::VectorXd& t, const TimeWindow& w);

@@ -20,10 +20,18 @@ constexpr double kOpaque = 350.0;
 
 // Continued fraction J_n/J_{n-1} = 1/(2n/z - J_{n+1}/J_n), summed from far above
 // |z| downward, where the ratio of the minimal solution is ~0.
+// 1/w by its conjugate: the library's complex division guards against
+// overflow and NaN at several times the cost, and |w| here is far from both.
+Complex reciprocal(Complex w) {
+  const double d = w.real() * w.real() + w.imag() * w.imag();
+  return {w.real() / d, -w.imag() / d};
+}
+
 Complex ratio_by_recurrence(int n, Complex z) {
   const int top = n + static_cast<int>(2.0 * std::abs(z)) + 60;
+  const Complex two_over_z = 2.0 * reciprocal(z);
   Complex r = 0.0;
-  for (int m = top; m >= n; --m) r = 1.0 / (2.0 * m / z - r);
+  for (int m = top; m >= n; --m) r = reciprocal(static_cast<double>(m) * two_over_z - r);
   return r;
 }
 
@@ -104,7 +112,15 @@ std::complex<double> bessel_j_ratio(int n, std::complex<double> z) {
   return z.real() >= 0.0 ? ratio_by_asymptotics(n, z) : -ratio_by_asymptotics(n, -z);
 }
 
-std::complex<double> bessel_j2_over_j0(std::complex<double> z) { return bessel_j_ratio(2, z) * bessel_j_ratio(1, z); }
+std::complex<double> bessel_j2_over_j0(std::complex<double> z) {
+  if (z == 0.0 || std::abs(z) > kAsymptoticFrom) return bessel_j_ratio(2, z) * bessel_j_ratio(1, z);
+  // One continued fraction passes J2/J1 on its way down to J1/J0.
+  const int top = 2 + static_cast<int>(2.0 * std::abs(z)) + 60;
+  const Complex two_over_z = 2.0 * reciprocal(z);
+  Complex r = 0.0;
+  for (int m = top; m >= 2; --m) r = reciprocal(static_cast<double>(m) * two_over_z - r);
+  return r * reciprocal(two_over_z - r);
+}
 
 std::complex<double> tube_response(const TubeSegment& tube, const AirProperties& air, double frequency_hz) {
   const TubeSegment line[] = {tube};

@@ -148,6 +148,23 @@ TEST(WindOffZero, InterpolatesTheZeroBetweenTheWindowsAndHoldsItOutside) {
   EXPECT_NEAR(z.at(0.0), z.before, 1e-15);
   EXPECT_NEAR(z.drift(), 2.7, 1e-12);
   EXPECT_THROW(wind_off_zero(t, x, {20.0, 21.0}, std::nullopt), std::invalid_argument);
+  // The record's zero, sample by sample, is the scalar form exactly, at and beyond both window centres.
+  const Eigen::VectorXd record = z.at(t);
+  for (Eigen::Index i = 0; i < t.size(); ++i) EXPECT_EQ(record[i], z.at(t[i])) << "t = " << t[i];
+  // Window means over exactly the samples inside [start, end], ends included.
+  EXPECT_EQ(window_samples(t, {0.0, 1.0}), 11);
+  EXPECT_EQ(window_samples(t, {0.05, 0.15}), 1);
+  EXPECT_DOUBLE_EQ(window_mean(t, x, {0.95, 1.25}), 2.0 + 0.3 * 1.1);
+}
+
+TEST(CalibrationFile, EvaluatesEveryDegreeAsTheScalarForm) {
+  ChannelCalibration c;
+  Eigen::VectorXd v = Eigen::VectorXd::LinSpaced(7, -2.0, 3.0);
+  for (const auto& coefficients : std::vector<std::vector<double>>{{}, {4.0}, {-1.0, 250.0}, {0.5, -3.0, 0.25, 1e-3}}) {
+    c.coefficients = coefficients;
+    const Eigen::VectorXd p = c.evaluate(v);
+    for (Eigen::Index i = 0; i < v.size(); ++i) EXPECT_EQ(p[i], c.evaluate(v[i])) << coefficients.size();
+  }
 }
 
 TEST(LinesFile, ReadsSegmentsAndMeasuredLines) {

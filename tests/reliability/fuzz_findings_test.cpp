@@ -118,6 +118,17 @@ std::string patched(const std::string& bytes, std::size_t at, std::uint64_t valu
   return out;
 }
 
+// Where the heap id of the file's one string of this length is, found by its
+// bytes alone (length, the first collection's address, an index); npos if none.
+std::size_t heap_id_at(const std::string& bytes, std::uint64_t length) {
+  const std::size_t gcol = bytes.find("GCOL");
+  if (gcol == std::string::npos) return gcol;
+  std::size_t at = std::string::npos;
+  for (std::uint64_t index = 1; index < 64 && at == std::string::npos; ++index)
+    at = bytes.find(patched(patched(patched(std::string(16, '\0'), 0, length, 4), 4, gcol, 8), 12, index, 4));
+  return at;
+}
+
 TEST(GlobalHeapCheck, PassesSoundFilesAndRefusesEveryEndlessOrOutOfBoundsWalk) {
   testing::ScratchDir dir;
   // A sound file with variable-length strings: an attribute and a dataset.
@@ -181,12 +192,7 @@ TEST(GlobalHeapCheck, AStringAttributeWhoseHeapObjectIsMissingIsRefusedBeforeLib
   for (const auto& sound : {v1, v2}) {
     SCOPED_TRACE(sound.filename().string());
     const std::string bytes = testing::read_text(sound);
-    const std::size_t gcol = bytes.find("GCOL");
-    ASSERT_NE(gcol, std::string::npos);
-    // The heap id of "tunnel-pc", found by its bytes alone: length 9, the collection's address, an index.
-    std::size_t id_at = std::string::npos;
-    for (std::uint64_t index = 1; index < 64 && id_at == std::string::npos; ++index)
-      id_at = bytes.find(patched(patched(patched(std::string(16, '\0'), 0, 9, 4), 4, gcol, 8), 12, index, 4));
+    const std::size_t id_at = heap_id_at(bytes, 9);  // "tunnel-pc"
     ASSERT_NE(id_at, std::string::npos);
     {
       h5::File f = h5::File::open_read(sound);
@@ -238,12 +244,7 @@ TEST(GlobalHeapCheck, ACompactStringDatasetWhoseHeapObjectIsMissingIsRefusedBefo
     EXPECT_EQ(h5::read_texts(f.id(), "names", "compact.h5"), (std::vector<std::string>{"alpha_enc", "q_pitot", "p01"}));
   }
   const std::string bytes = testing::read_text(sound);
-  const std::size_t gcol = bytes.find("GCOL");
-  ASSERT_NE(gcol, std::string::npos);
-  // The heap id of "q_pitot" (length 7), found by its bytes alone.
-  std::size_t id_at = std::string::npos;
-  for (std::uint64_t index = 1; index < 64 && id_at == std::string::npos; ++index)
-    id_at = bytes.find(patched(patched(patched(std::string(16, '\0'), 0, 7, 4), 4, gcol, 8), 12, index, 4));
+  const std::size_t id_at = heap_id_at(bytes, 7);  // "q_pitot"
   ASSERT_NE(id_at, std::string::npos);
   const auto damaged = dir / "damaged.h5";
   std::ofstream(damaged, std::ios::binary) << patched(bytes, id_at + 12, 77, 4);

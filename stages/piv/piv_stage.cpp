@@ -261,9 +261,12 @@ void PivStage::run(RunContext& context) {
   if (recipe.section) {
     // The configured place checked against the data, or found from it.
     const std::vector<piv::RegistrationFrame> sample = registration_frames(*source, alpha);
-    const double search = o.registration == "data" ? o.registration_search_over_c * chord : 0.0;
-    const piv::Registration reg = piv::register_from_data(grid, sample, *recipe.section, recipe.placement, search,
-                                                          o.registration == "data" ? o.registration_search_deg : 0.0);
+    piv::Registration reg{recipe.placement, 1.0, sample.size()};
+    if (o.registration == "data")
+      reg = piv::register_from_data(grid, sample, *recipe.section, recipe.placement,
+                                    o.registration_search_over_c * chord, o.registration_search_deg);
+    else if (!sample.empty() && grid.nx() >= 2 && grid.ny() >= 2)
+      reg.mismatch = piv::registration_mismatch(grid, sample, *recipe.section, recipe.placement);
     if (o.registration == "data") {
       if (!(reg.mismatch < 0.5))
         throw InputError(where_registration_,
@@ -310,8 +313,9 @@ void PivStage::run(RunContext& context) {
           r.reason = "outside the DAQ record";
           continue;
         }
-        r.random_error = piv::random_error(grid, frame) * to_m_s;
-        if (perturbation) add_random_error(*perturbation, frame, r.random_error / to_m_s);
+        const double random_error = piv::random_error(grid, frame);  // in the file's units, as the noise added
+        r.random_error = random_error * to_m_s;
+        if (perturbation) add_random_error(*perturbation, frame, random_error);
         piv::ReducedFrame reduced = piv::reduce_frame(grid, recipe, frame, alpha[frame.index]);
         r.counts = reduced.counts;
         if (!reduced.flag.empty()) {

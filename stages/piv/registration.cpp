@@ -7,10 +7,8 @@
 
 namespace stallscope::piv {
 
-namespace {
-
-double mismatch(const Grid& grid, const std::vector<RegistrationFrame>& frames, const theory::Naca4Section& section,
-                const AirfoilPlacement& a) {
+double registration_mismatch(const Grid& grid, const std::vector<RegistrationFrame>& frames,
+                             const theory::Naca4Section& section, const AirfoilPlacement& a) {
   std::size_t differ = 0, either = 0;
   for (const auto& f : frames) {
     const std::vector<std::uint8_t> inside = airfoil_mask(grid, a, section, f.alpha_deg, 0.0);
@@ -22,8 +20,6 @@ double mismatch(const Grid& grid, const std::vector<RegistrationFrame>& frames, 
   return either ? static_cast<double>(differ) / static_cast<double>(either) : 1.0;
 }
 
-}  // namespace
-
 Registration register_from_data(const Grid& grid, const std::vector<RegistrationFrame>& frames,
                                 const theory::Naca4Section& section, const AirfoilPlacement& guess, double radius_m,
                                 double angle_deg) {
@@ -31,7 +27,7 @@ Registration register_from_data(const Grid& grid, const std::vector<Registration
   r.placement = guess;
   r.frames = frames.size();
   if (frames.empty() || grid.nx() < 2 || grid.ny() < 2) return r;
-  r.mismatch = mismatch(grid, frames, section, guess);
+  r.mismatch = registration_mismatch(grid, frames, section, guess);
   const double cell = std::min(std::abs(grid.x_m[1] - grid.x_m[0]), std::abs(grid.y_m[1] - grid.y_m[0]));
   // A step in angle moves the far end of the section by about a step in position.
   const double cell_deg = cell / guess.chord_m * 180.0 / std::numbers::pi;
@@ -52,7 +48,7 @@ Registration register_from_data(const Grid& grid, const std::vector<Registration
         if (std::hypot(trial.pivot_x_m - guess.pivot_x_m, trial.pivot_y_m - guess.pivot_y_m) > radius_m ||
             std::abs(trial.chord_angle_offset_deg - guess.chord_angle_offset_deg) > angle_deg)
           continue;
-        const double e = mismatch(grid, frames, section, trial);
+        const double e = registration_mismatch(grid, frames, section, trial);
         if (e < r.mismatch) r.placement = trial, r.mismatch = e, improved = true;
       }
     }

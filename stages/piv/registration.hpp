@@ -26,6 +26,11 @@ struct Registration {
   std::size_t frames = 0;
 };
 
+// How far the section at placement a is from the frames' invalid vectors: the
+// cells where one marks and the other does not, over the cells either marks.
+double registration_mismatch(const Grid& grid, const std::vector<RegistrationFrame>& frames,
+                             const theory::Naca4Section& section, const AirfoilPlacement& a);
+
 // Starts from `guess` (chord and pivot x/c as given) and searches within
 // `radius_m` of its axis and `angle_deg` of its offset, by a pattern search
 // whose steps halve from a grid cell down to 1/32 of one.

@@ -44,6 +44,24 @@ TEST(Registration, FindsThePitchAxisAndAngleOffsetToAFractionOfACell) {
   }
 }
 
+TEST(Registration, TheMismatchOfAPlaceIsZeroAtTheTruthAndGrowsAway) {
+  const Grid g = testing::uniform_grid(-0.06, 0.2, -0.06, 0.08, 0.0025);
+  const theory::Naca4Section s = theory::parse_naca4("0012");
+  const AirfoilPlacement truth{0.15, 0.25, 0.012, -0.006, 1.5};
+  const std::vector<RegistrationFrame> frames = frames_of(g, truth, s);
+  EXPECT_EQ(registration_mismatch(g, frames, s, truth), 0.0);
+  AirfoilPlacement off = truth;
+  double previous = 0.0;
+  for (int cells = 1; cells <= 4; ++cells) {
+    off.pivot_y_m = truth.pivot_y_m + cells * 0.0025;
+    const double e = registration_mismatch(g, frames, s, off);
+    EXPECT_GT(e, previous) << cells;
+    previous = e;
+  }
+  // Nothing marked at all: no overlap to judge by.
+  EXPECT_EQ(registration_mismatch(g, {}, s, truth), 1.0);
+}
+
 TEST(Registration, StaysWithinItsSearchRadius) {
   const Grid g = testing::uniform_grid(-0.06, 0.2, -0.06, 0.08, 0.0025);
   const theory::Naca4Section s = theory::parse_naca4("0012");

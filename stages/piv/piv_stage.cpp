@@ -61,6 +61,8 @@ struct FrameResult {
   double noise = kNaN, threshold = kNaN, random_error = kNaN;
   std::vector<piv::Detection> detections;
   std::vector<double> gamma2;
+  std::vector<std::int64_t> gamma2_width;
+  std::int64_t not_cores = 0;  // detections dropped by gamma2_cores_only
   std::string reason;  // empty: processed
 };
 
@@ -162,7 +164,10 @@ void PivStage::configure(ConfigSection& s) {
   o.random_error_replicas = s.boolean("random_error_replicas", o.random_error_replicas);
   o.gamma2 = s.boolean("gamma2", o.gamma2);
   o.gamma2_half_width = s.integer("gamma2_half_width", o.gamma2_half_width);
-  s.require(o.gamma2_half_width >= 1 && o.gamma2_half_width <= 20, "gamma2_half_width", "expected 1 to 20 cells");
+  s.require(o.gamma2_half_width >= 0 && o.gamma2_half_width <= 20, "gamma2_half_width",
+            "expected 0 to 20 cells (0: each vortex's own size)");
+  o.gamma2_cores_only = s.boolean("gamma2_cores_only", o.gamma2_cores_only);
+  s.require(!o.gamma2_cores_only || o.gamma2, "gamma2_cores_only", "needs gamma2 = true");
 }
 
 std::vector<std::string> PivStage::inputs() const {
@@ -325,9 +330,22 @@ void PivStage::run(RunContext& context) {
         const piv::SwirlField& field = reduced.field;
         r.noise = piv::noise_swirl(field);
         r.detections = piv::detect_vortices(grid, field, reduced.replaced, detect, &r.threshold);
-        if (o.gamma2)
-          for (const auto& d : r.detections)
-            r.gamma2.push_back(piv::gamma2_at(grid, frame, d.centre_j, d.centre_i, static_cast<int>(o.gamma2_half_width)));
+        if (o.gamma2) {
+          std::vector<piv::Detection> kept;
+          for (const auto& d : r.detections) {
+            const int width = o.gamma2_half_width > 0 ? static_cast<int>(o.gamma2_half_width)
+                                                      : piv::gamma2_half_width_for(grid, d.area_m2);
+            const double g2 = piv::gamma2_at(grid, frame, d.centre_j, d.centre_i, width);
+            if (o.gamma2_cores_only && !(std::abs(g2) > piv::gamma2_shear_ceiling(width))) {
+              ++r.not_cores;
+              continue;
+            }
+            kept.push_back(d);
+            r.gamma2.push_back(g2);
+            r.gamma2_width.push_back(width);
+          }
+          r.detections = std::move(kept);
+        }
       } catch (...) {
 #pragma omp critical(piv_failure)
         if (!failure) failure = std::current_exception();
@@ -344,6 +362,7 @@ void PivStage::run(RunContext& context) {
   // Per-detection table.
   std::vector<std::int64_t> d_frame, d_sign, d_cells, d_replaced, d_regions;
   std::vector<double> d_t, d_xm, d_ym, d_xc, d_yc, d_circ, d_loose, d_strict, d_sens, d_peak, d_radius, d_gamma2;
+  std::vector<std::int64_t> d_gamma2_width, d_gamma2_core, not_cores;
   std::int64_t flagged = 0;
   const double circulation_scale = 1.0 / (speed * chord), swirl_scale = chord / speed;
   for (std::size_t f = 0; f < frames; ++f) {
@@ -363,6 +382,7 @@ void PivStage::run(RunContext& context) {
     random_error.push_back(r.random_error);
     threshold.push_back(r.threshold);
     ndet.push_back(static_cast<std::int64_t>(r.detections.size()));
+    not_cores.push_back(r.not_cores);
     std::string why = r.reason;
     if (why.empty() && use_trigger && sync.pulse[f] < 0) why = "no trigger pulse (time from the clock fit)";
     status.push_back(r.reason.empty() ? (why.empty() ? "ok" : "suspect") : "flagged");
@@ -388,6 +408,8 @@ void PivStage::run(RunContext& context) {
       d_replaced.push_back(static_cast<std::int64_t>(d.replaced_cells));
       d_regions.push_back(static_cast<std::int64_t>(d.regions));
       d_gamma2.push_back(o.gamma2 ? r.gamma2[k] : kNaN);
+      d_gamma2_width.push_back(o.gamma2 ? r.gamma2_width[k] : 0);
+      d_gamma2_core.push_back(o.gamma2 && std::abs(r.gamma2[k]) > piv::gamma2_shear_ceiling(static_cast<int>(r.gamma2_width[k])) ? 1 : 0);
     }
   }
   Table ft;
@@ -397,7 +419,8 @@ void PivStage::run(RunContext& context) {
       .add({"missing", "1", missing}).add({"outliers", "1", outliers}).add({"replaced", "1", replaced})
       .add({"unrecoverable", "1", unrecoverable}).add({"random_error_m_s", "m/s", random_error})
       .add({"noise_swirl_1_s", "1/s", noise})
-      .add({"threshold_1_s", "1/s", threshold}).add({"detections", "1", ndet}).add({"status", "", status})
+      .add({"threshold_1_s", "1/s", threshold}).add({"detections", "1", ndet})
+      .add({"not_vortex_cores", "1", not_cores}).add({"status", "", status})
       .add({"reason", "", reason});
   store.put("piv/frames", std::move(ft),
             {{"note", std::string("t_s on the DAQ clock; flagged frames were not searched for vortices")}});
@@ -407,12 +430,16 @@ void PivStage::run(RunContext& context) {
       .add({"circulation", "1", d_circ}).add({"circulation_loose", "1", d_loose})
       .add({"circulation_strict", "1", d_strict}).add({"circulation_sensitivity", "1", d_sens})
       .add({"peak_swirl", "1", d_peak}).add({"radius_over_c", "1", d_radius}).add({"cells", "1", d_cells})
-      .add({"replaced_cells", "1", d_replaced}).add({"regions", "1", d_regions}).add({"gamma2", "1", d_gamma2});
+      .add({"replaced_cells", "1", d_replaced}).add({"regions", "1", d_regions}).add({"gamma2", "1", d_gamma2})
+      .add({"gamma2_half_width", "1", d_gamma2_width}).add({"gamma2_core", "1", d_gamma2_core});
   store.put("piv/detections", std::move(dt),
             {{"normalised_by", std::string("circulation by U_inf c, peak_swirl by U_inf/c, radius by c")},
              {"circulation_sign", std::string("counter-clockwise positive, lab frame x downstream y up; "
                                               "the airfoil frame keeps the sign")},
              {"circulation_boundary", std::string("region where lambda_ci > threshold; loose/strict at 0.5x/2x")},
+             {"gamma2", std::string(o.gamma2 ? "Graftieaux et al. 2001 at the centre, over 2 gamma2_half_width + 1 "
+                                               "cells square; gamma2_core: |gamma2| above what a pure shear reaches there (2/pi over a disc)"
+                                             : "not computed ([piv] gamma2 = false)")},
              {"gradient", o.gradient}});
   store.put("piv/grid_x_m", Series{Eigen::Map<const Eigen::VectorXd>(grid.x_m.data(), static_cast<Eigen::Index>(grid.nx())), "m"});
   store.put("piv/grid_y_m", Series{Eigen::Map<const Eigen::VectorXd>(grid.y_m.data(), static_cast<Eigen::Index>(grid.ny())), "m"});

@@ -56,7 +56,8 @@ class PivStage final : public Stage {
     // random error's effect from above.
     bool random_error_replicas = false;
     bool gamma2 = false;                         // Gamma2 at each detection's centre
-    std::int64_t gamma2_half_width = 2;
+    std::int64_t gamma2_half_width = 0;          // cells; 0: the vortex's own size (scale selection)
+    bool gamma2_cores_only = false;              // drop detections no more rotational than a pure shear
   };
 
   std::string_view name() const override { return kName; }

@@ -1,14 +1,18 @@
 #include "stages/piv/swirl.hpp"
 
 #include <Eigen/Dense>
+#include <algorithm>
+#include <array>
 #include <cmath>
 #include <limits>
+#include <numbers>
 
 namespace stallscope::piv {
 
 namespace {
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+constexpr double kPi = std::numbers::pi;
 
 // Derivative weights along one axis: the Lagrange three-point formula at
 // interior points (second order on uneven spacing), and the two one-sided
@@ -119,6 +123,37 @@ double gamma2_at(const Grid& grid, const Frame& f, std::size_t j, std::size_t i,
       if (norm > 0) sum += (px * dv - py * du) / norm;
     }
   return terms >= 3 ? sum / terms : kNaN;
+}
+
+double gamma2_shear_ceiling(int half_width) {
+  // A shear u = (p . n) t, t normal to n, turns each point's relative velocity
+  // at |sin| = |p . n| / |p| to its position: Gamma2 is the mean of that.
+  static const std::array<double, 21> ceiling = [] {
+    std::array<double, 21> c{};
+    for (int h = 1; h <= 20; ++h) {
+      double worst = kGamma2Core;
+      for (int k = 0; k < 180; ++k) {
+        const double nx = std::cos(kPi * k / 180), ny = std::sin(kPi * k / 180);
+        double sum = 0;
+        int terms = 0;
+        for (int y = -h; y <= h; ++y)
+          for (int x = -h; x <= h; ++x)
+            if (x || y) sum += std::abs(x * nx + y * ny) / std::hypot(x, y), ++terms;
+        worst = std::max(worst, sum / terms);
+      }
+      c[static_cast<std::size_t>(h)] = worst;
+    }
+    return c;
+  }();
+  return ceiling[static_cast<std::size_t>(std::clamp(half_width, 1, 20))];
+}
+
+int gamma2_half_width_for(const Grid& grid, double area_m2) {
+  if (grid.nx() < 2 || grid.ny() < 2 || !(area_m2 > 0)) return 1;
+  const double dx = std::abs(grid.x_m.back() - grid.x_m.front()) / static_cast<double>(grid.nx() - 1);
+  const double dy = std::abs(grid.y_m.back() - grid.y_m.front()) / static_cast<double>(grid.ny() - 1);
+  const double radius_cells = std::sqrt(area_m2 / kPi) / (0.5 * (dx + dy));
+  return static_cast<int>(std::clamp(std::lround(radius_cells), 1L, 20L));
 }
 
 }  // namespace stallscope::piv

@@ -31,4 +31,18 @@ SwirlField swirl_field(const Grid& grid, const Frame& frame, GradientScheme sche
 // vectors; NaN if fewer than 3 neighbours. Counter-clockwise positive.
 double gamma2_at(const Grid& grid, const Frame& frame, std::size_t j, std::size_t i, int half_width);
 
+// Graftieaux et al. (2001): |Gamma2| above 2/pi marks a vortex core, where
+// rotation rules the flow; 2/pi is what a pure shear gives over a disc. Over
+// the square neighbourhood of gamma2_at a pure shear reaches a little more
+// (0.626 at half width 2, 0.645 at 8), so a core is judged against that.
+inline constexpr double kGamma2Core = 0.63661977236758134;  // 2 / pi
+
+// The largest |Gamma2| a pure shear of any direction gives over the square
+// neighbourhood of this half width on square cells (at least 2/pi).
+double gamma2_shear_ceiling(int half_width);
+
+// Scale selection: the half width, in cells, of the neighbourhood of a vortex
+// of this area, its equivalent radius over the mean grid spacing (1 to 20).
+int gamma2_half_width_for(const Grid& grid, double area_m2);
+
 }  // namespace stallscope::piv

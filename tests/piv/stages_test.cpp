@@ -8,6 +8,7 @@
 #include <cmath>
 #include <map>
 #include <numbers>
+#include <numeric>
 
 #include "pipeline/config.hpp"
 #include "pipeline/errors.hpp"
@@ -17,6 +18,7 @@
 #include "pipeline/provenance.hpp"
 #include "stages/piv/airfoil_frame.hpp"
 #include "stages/piv/piv_stage.hpp"
+#include "stages/piv/swirl.hpp"
 #include "stages/piv/vortex_stage.hpp"
 #include "tests/piv/piv_fields.hpp"
 #include "tests/support/test_support.hpp"
@@ -326,6 +328,43 @@ TEST(PivStage, RejectsBadOptionsAtTheirKey) {
     ADD_FAILURE() << "no error";
   } catch (const InputError& e) {
     EXPECT_NE(std::string(e.what()).find("median_epsilon_m_s"), std::string::npos) << e.what();
+  }
+}
+
+// Gamma2 at each vortex's own scale (gamma2_half_width = 0): the leading-edge
+// vortex of the invented run is a core there; gamma2_cores_only keeps exactly
+// the detections marked as cores and counts the others per frame.
+TEST(PivStage, Gamma2AtEachVortexsOwnScaleMarksTheCoresAndCanKeepOnlyThem) {
+  // Options of [piv] go before the config's [vortex] table.
+  auto with = [](const std::string& piv_options) {
+    std::string config = kConfig;
+    return config.insert(config.find("[vortex]"), piv_options);
+  };
+  PivRun all, cores;
+  all.run_stage<PivStage>(with("gamma2 = true\n"), "piv", 1);
+  cores.run_stage<PivStage>(with("gamma2 = true\ngamma2_cores_only = true\n"), "piv", 1);
+  const Table& a = all.store.get<Table>("piv/detections");
+  ASSERT_GT(a.rows(), 0u);
+  std::size_t marked = 0;
+  for (std::size_t r = 0; r < a.rows(); ++r) {
+    EXPECT_GE(a.integers("gamma2_half_width")[r], 1);
+    EXPECT_EQ(a.integers("gamma2_core")[r],
+              std::abs(a.numbers("gamma2")[r]) > piv::gamma2_shear_ceiling(static_cast<int>(a.integers("gamma2_half_width")[r])));
+    marked += static_cast<std::size_t>(a.integers("gamma2_core")[r]);
+  }
+  EXPECT_GT(marked, a.rows() / 2);  // most detections of the run are vortices, not shear
+  const Table& c = cores.store.get<Table>("piv/detections");
+  EXPECT_EQ(c.rows(), marked);
+  for (std::int64_t core : c.integers("gamma2_core")) EXPECT_EQ(core, 1);
+  const auto& dropped = cores.store.get<Table>("piv/frames").integers("not_vortex_cores");
+  EXPECT_EQ(static_cast<std::size_t>(std::accumulate(dropped.begin(), dropped.end(), std::int64_t{0})),
+            a.rows() - marked);
+  try {
+    PivRun bad;
+    bad.run_stage<PivStage>(with("gamma2_cores_only = true\n"), "piv", 1);
+    ADD_FAILURE() << "no error";
+  } catch (const InputError& e) {
+    EXPECT_NE(std::string(e.what()).find("gamma2_cores_only"), std::string::npos) << e.what();
   }
 }
 

@@ -14,6 +14,7 @@
 #include "stages/piv/detection.hpp"
 #include "stages/piv/frame_reduction.hpp"
 #include "stages/piv/frame_source.hpp"
+#include "stages/piv/orientation.hpp"
 #include "stages/piv/registration.hpp"
 #include "stages/piv/swirl.hpp"
 #include "stages/piv/time_sync.hpp"
@@ -81,20 +82,36 @@ void add_random_error(const Perturbation& p, piv::Frame& frame, double sigma) {
 
 // Up to 12 frames spread over the angles seen, for the registration: which
 // vectors each holds no valid measurement at.
-std::vector<piv::RegistrationFrame> registration_frames(piv::FrameSource& source, const std::vector<double>& alpha) {
+// Up to 12 frames spread over the angles the run reaches, for registration
+// and the orientation check.
+struct SampleFrame {
+  double alpha_deg = 0;
+  piv::Frame frame;
+};
+
+std::vector<SampleFrame> sample_frames(piv::FrameSource& source, const std::vector<double>& alpha) {
   std::vector<std::size_t> order;
   for (std::size_t f = 0; f < alpha.size(); ++f)
     if (std::isfinite(alpha[f])) order.push_back(f);
   std::sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) { return alpha[a] < alpha[b]; });
   constexpr std::size_t kFrames = 12;
-  std::vector<piv::RegistrationFrame> out;
+  std::vector<SampleFrame> out;
   std::vector<piv::Frame> one;
   for (std::size_t k = 0; k < std::min(kFrames, order.size()); ++k) {
     const std::size_t f = order[order.size() == 1 ? 0 : k * (order.size() - 1) / (std::min(kFrames, order.size()) - 1)];
     source.read(f, 1, one);
-    piv::RegistrationFrame r{alpha[f], std::vector<std::uint8_t>(one[0].u.size())};
+    out.push_back({alpha[f], std::move(one[0])});
+  }
+  return out;
+}
+
+// Where the samples hold no valid vector: the model, to register it by.
+std::vector<piv::RegistrationFrame> registration_frames(const std::vector<SampleFrame>& samples) {
+  std::vector<piv::RegistrationFrame> out;
+  for (const SampleFrame& s : samples) {
+    piv::RegistrationFrame r{s.alpha_deg, std::vector<std::uint8_t>(s.frame.u.size())};
     for (std::size_t p = 0; p < r.invalid.size(); ++p)
-      r.invalid[p] = !one[0].valid[p] || !std::isfinite(one[0].u[p]) || !std::isfinite(one[0].v[p]);
+      r.invalid[p] = !s.frame.valid[p] || !std::isfinite(s.frame.u[p]) || !std::isfinite(s.frame.v[p]);
     out.push_back(std::move(r));
   }
   return out;
@@ -162,6 +179,7 @@ void PivStage::configure(ConfigSection& s) {
   o.cluster_gap_cells = s.integer("cluster_gap_cells", o.cluster_gap_cells);
   s.require(o.cluster_gap_cells >= 0 && o.cluster_gap_cells <= 20, "cluster_gap_cells", "expected 0 to 20 cells");
   o.random_error_replicas = s.boolean("random_error_replicas", o.random_error_replicas);
+  o.orientation_check = s.boolean("orientation_check", o.orientation_check);
   o.gamma2 = s.boolean("gamma2", o.gamma2);
   o.gamma2_half_width = s.integer("gamma2_half_width", o.gamma2_half_width);
   s.require(o.gamma2_half_width >= 0 && o.gamma2_half_width <= 20, "gamma2_half_width",
@@ -188,7 +206,7 @@ std::vector<std::string> PivStage::outputs() const {
           "piv/sync_method",    "piv/sync_offset_s",  "piv/sync_drift",     "piv/sync_residual_s",
           "piv/sync_centre_s",  "piv/sync_offset_uncertainty_s",            "piv/sync_drift_uncertainty",
           "piv/missing_frames", "piv/flagged_frames", "piv/velocity_units", "piv/processing",
-          "piv/random_error_m_s", "piv/registration"};
+          "piv/random_error_m_s", "piv/registration", "piv/orientation"};
 }
 
 void PivStage::run(RunContext& context) {
@@ -263,9 +281,10 @@ void PivStage::run(RunContext& context) {
                       o.chord_angle_offset_deg};
   if (o.mask_airfoil) recipe.section = piv::mask_section(store.get<Text>("run/airfoil").value, where_airfoil_);
   recipe.mask_offset_over_c = o.mask_offset_over_c;
+  const std::vector<SampleFrame> samples = sample_frames(*source, alpha);
   if (recipe.section) {
     // The configured place checked against the data, or found from it.
-    const std::vector<piv::RegistrationFrame> sample = registration_frames(*source, alpha);
+    const std::vector<piv::RegistrationFrame> sample = registration_frames(samples);
     piv::Registration reg{recipe.placement, 1.0, sample.size()};
     if (o.registration == "data")
       reg = piv::register_from_data(grid, sample, *recipe.section, recipe.placement,
@@ -293,6 +312,28 @@ void PivStage::run(RunContext& context) {
                                         "over the cells either marks; 0 is a perfect fit")}});
   }
   const piv::AirfoilPlacement& placement = recipe.placement;
+  if (o.orientation_check) {
+    std::vector<piv::OrientationSample> probe;
+    for (const SampleFrame& s : samples) probe.push_back({&s.frame, s.alpha_deg});
+    const piv::Orientation orientation = piv::check_orientation(grid, probe, placement, to_m_s, speed);
+    if (orientation.x_reversed || orientation.y_reversed)
+      throw InputError(where_file_, fmt::format("the PIV field looks {} (median u {:.2f} U; suction-side excess "
+                                                "{:.3f} +- {:.3f} U over {} frames); vorticity signs would come out "
+                                                "flipped. Export the field in the lab frame (x downstream, y up), "
+                                                "or set orientation_check = false if it is right",
+                                                orientation.verdict, orientation.streamwise,
+                                                orientation.suction_excess, orientation.suction_error,
+                                                orientation.frames_used));
+    Table t;
+    t.add({"median_u_over_u_inf", "1", std::vector<double>{orientation.streamwise}})
+        .add({"suction_excess_over_u_inf", "1", std::vector<double>{orientation.suction_excess}})
+        .add({"suction_excess_error", "1", std::vector<double>{orientation.suction_error}})
+        .add({"frames", "1", std::vector<std::int64_t>{static_cast<std::int64_t>(orientation.frames_used)}})
+        .add({"verdict", "", std::vector<std::string>{orientation.verdict}});
+    store.put("piv/orientation", std::move(t),
+              {{"method", std::string("median u of the sampled frames, and u over the suction side less u under "
+                                      "the pressure side (x/c 0.1 to 0.9, 0.05 to 0.4 c off the chord) at 2 to 12 deg")}});
+  }
   piv::DetectionOptions detect;
   detect.noise_factor = o.noise_factor;
   detect.min_threshold = o.min_swirl_1_s;

@@ -55,6 +55,7 @@ class PivStage final : public Stage {
     // replica then carries sqrt 2 the measured noise, so its spread bounds the
     // random error's effect from above.
     bool random_error_replicas = false;
+    bool orientation_check = true;               // refuse a field that looks mirrored (piv/orientation)
     bool gamma2 = false;                         // Gamma2 at each detection's centre
     std::int64_t gamma2_half_width = 0;          // cells; 0: the vortex's own size (scale selection)
     bool gamma2_cores_only = false;              // drop detections no more rotational than a pure shear

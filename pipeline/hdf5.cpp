@@ -273,10 +273,31 @@ std::vector<std::string> children(hid_t file, const std::string& group_path) {
   return names;
 }
 
+// libhdf5 allocates a whole chunk (and a conversion buffer beside it) to read
+// any part of it. No DAQ or PIV writer makes chunks this large; a damaged
+// layout message does, and would ask for gigabytes.
+constexpr hsize_t kMaxChunkBytes = hsize_t{128} << 20;
+
+static void check_chunk_size(hid_t ds, const std::string& path, const std::string& file_name) {
+  Id dcpl(H5Dget_create_plist(ds));
+  if (!dcpl || H5Pget_layout(dcpl.get()) != H5D_CHUNKED) return;
+  std::vector<hsize_t> chunk(H5S_MAX_RANK, 0);
+  const int rank = H5Pget_chunk(dcpl.get(), H5S_MAX_RANK, chunk.data());
+  Id type(H5Dget_type(ds));
+  hsize_t bytes = type ? std::max<hsize_t>(1, H5Tget_size(type.get())) : 1;
+  for (int d = 0; d < rank; ++d) {
+    if (chunk[static_cast<std::size_t>(d)] != 0 && bytes > kMaxChunkBytes / chunk[static_cast<std::size_t>(d)])
+      throw InputError(file_name, "/" + path + " is stored in chunks of more than 128 MiB (a damaged layout, or a "
+                                               "writer's choice this reader refuses: rechunk it, e.g. with h5repack)");
+    bytes *= chunk[static_cast<std::size_t>(d)];
+  }
+}
+
 static Id open_dataset(hid_t file, const std::string& path, const std::string& file_name) {
   if (!exists(file, path)) throw InputError(file_name, "dataset /" + path + " is missing");
   Id ds(H5Dopen2(file, path.c_str(), H5P_DEFAULT));
   if (!ds) throw InputError(file_name, "/" + path + " is not a readable dataset");
+  check_chunk_size(ds.get(), path, file_name);
   return ds;
 }
 

@@ -278,12 +278,21 @@ std::vector<std::string> children(hid_t file, const std::string& group_path) {
 // layout message does, and would ask for gigabytes.
 constexpr hsize_t kMaxChunkBytes = hsize_t{128} << 20;
 
-static void check_chunk_size(hid_t ds, const std::string& path, const std::string& file_name) {
+// The same for a damaged number type: a float or integer of hundreds of
+// megabytes, whose conversion buffer libhdf5 would allocate (16 bytes is the
+// widest number any writer stores).
+constexpr std::size_t kMaxNumberBytes = 16;
+
+static void check_storage(hid_t ds, const std::string& path, const std::string& file_name) {
+  Id type(H5Dget_type(ds));
+  const H5T_class_t type_class = type ? H5Tget_class(type.get()) : H5T_NO_CLASS;
+  if ((type_class == H5T_FLOAT || type_class == H5T_INTEGER) && H5Tget_size(type.get()) > kMaxNumberBytes)
+    throw InputError(file_name, "/" + path + " declares numbers of " + std::to_string(H5Tget_size(type.get())) +
+                                    " bytes each (a damaged datatype: at most 16 exist)");
   Id dcpl(H5Dget_create_plist(ds));
   if (!dcpl || H5Pget_layout(dcpl.get()) != H5D_CHUNKED) return;
   std::vector<hsize_t> chunk(H5S_MAX_RANK, 0);
   const int rank = H5Pget_chunk(dcpl.get(), H5S_MAX_RANK, chunk.data());
-  Id type(H5Dget_type(ds));
   hsize_t bytes = type ? std::max<hsize_t>(1, H5Tget_size(type.get())) : 1;
   for (int d = 0; d < rank; ++d) {
     if (chunk[static_cast<std::size_t>(d)] != 0 && bytes > kMaxChunkBytes / chunk[static_cast<std::size_t>(d)])
@@ -297,7 +306,7 @@ static Id open_dataset(hid_t file, const std::string& path, const std::string& f
   if (!exists(file, path)) throw InputError(file_name, "dataset /" + path + " is missing");
   Id ds(H5Dopen2(file, path.c_str(), H5P_DEFAULT));
   if (!ds) throw InputError(file_name, "/" + path + " is not a readable dataset");
-  check_chunk_size(ds.get(), path, file_name);
+  check_storage(ds.get(), path, file_name);
   return ds;
 }
 

@@ -11,6 +11,7 @@
 #include "pipeline/hdf5.hpp"
 #include "pipeline/hdf5_heap_check.hpp"
 #include "stages/ingest/daq_file.hpp"
+#include "stages/piv/frame_source.hpp"
 #include "tests/support/test_support.hpp"
 
 namespace stallscope {
@@ -278,6 +279,33 @@ TEST(FuzzFinding, AnAttributeMessageLongerThanItselfIsRefusedBeforeLibhdf5Decode
                    "of /daq/volts declares a name of 9, a type of 20 and a dataspace of 65048 bytes, more than its 104"),
             std::string::npos)
       << e;
+}
+
+// fuzz_piv_hdf5: a damaged datatype gives /piv/y_m floats of hundreds of
+// megabytes each; libhdf5 1.10 asked malloc for 805 MB to convert the few values.
+TEST(FuzzFinding, NumbersTooWideToBeRealAreRefusedBeforeLibhdf5AllocatesForThem) {
+  const std::string e =
+      input_error([] { (void)piv::open_frame_source(kFindings / "libhdf5_huge_number_type_piv.h5", "m/s"); });
+  EXPECT_NE(e.find("libhdf5_huge_number_type_piv.h5: /piv/y_m declares numbers of "), std::string::npos) << e;
+  EXPECT_NE(e.find("a damaged datatype"), std::string::npos) << e;
+}
+
+// And chunks of more than 128 MiB, which libhdf5 allocates whole to read any part.
+TEST(FuzzFinding, ChunksTooLargeToBeRealAreRefusedBeforeLibhdf5AllocatesThem) {
+  testing::ScratchDir dir;
+  const auto path = dir / "huge_chunks.h5";
+  {
+    h5::File f = h5::File::create(path);
+    const hsize_t dims[1] = {16}, max_dims[1] = {H5S_UNLIMITED}, chunk[1] = {hsize_t{1} << 25};  // 256 MiB of doubles
+    h5::Id space(H5Screate_simple(1, dims, max_dims));
+    h5::Id dcpl(H5Pcreate(H5P_DATASET_CREATE));
+    ASSERT_GE(H5Pset_chunk(dcpl.get(), 1, chunk), 0);
+    h5::Id ds(H5Dcreate2(f.id(), "x_m", H5T_IEEE_F64LE, space.get(), H5P_DEFAULT, dcpl.get(), H5P_DEFAULT));
+    ASSERT_TRUE(ds);
+  }
+  h5::File f = h5::File::open_read(path);
+  const std::string e = input_error([&] { (void)h5::read_numbers(f.id(), "x_m", "huge_chunks.h5"); });
+  EXPECT_NE(e.find("huge_chunks.h5: /x_m is stored in chunks of more than 128 MiB"), std::string::npos) << e;
 }
 
 }  // namespace

@@ -22,7 +22,6 @@ namespace {
 // (2 bytes), reference count (2), reserved (4), object size (length-sized),
 // data padded to 8 bytes. Index 0 is the free space, whose size counts its
 // own header and is not padded.
-constexpr char kSignature[] = "GCOL";
 constexpr std::size_t kMaxCollections = 1 << 16;
 
 std::uint64_t little_endian(const unsigned char* p, std::size_t bytes) {
@@ -42,28 +41,46 @@ std::size_t size_of_lengths(std::ifstream& in) {
   return n == 2 || n == 4 || n == 8 ? n : 8;
 }
 
-// Every offset where the signature starts.
-std::vector<std::uint64_t> signature_offsets(std::ifstream& in) {
-  std::vector<std::uint64_t> found;
+// Every offset where each signature starts (all four bytes long), in one pass.
+std::vector<std::vector<std::uint64_t>> signature_offsets(std::ifstream& in, const std::vector<std::string_view>& signatures) {
+  std::vector<std::vector<std::uint64_t>> found(signatures.size());
   std::vector<char> block(1 << 20);
-  const std::size_t keep = sizeof kSignature - 2;  // bytes carried over to the next block
+  constexpr std::size_t keep = 3;  // bytes carried over to the next block
   std::uint64_t block_start = 0;
-  std::size_t carried = 0;
+  std::size_t carried = 0, total = 0;
   in.clear();
   in.seekg(0);
-  while (found.size() < kMaxCollections) {
+  while (total < kMaxCollections) {
     in.read(block.data() + carried, static_cast<std::streamsize>(block.size() - carried));
     const std::size_t n = carried + static_cast<std::size_t>(in.gcount());
     if (n == carried) break;
     const std::string_view view(block.data(), n);
-    for (auto at = view.find(kSignature); at != std::string_view::npos; at = view.find(kSignature, at + 1))
-      found.push_back(block_start + at);
+    for (std::size_t s = 0; s < signatures.size(); ++s)
+      for (auto at = view.find(signatures[s]); at != std::string_view::npos; at = view.find(signatures[s], at + 1))
+        found[s].push_back(block_start + at), ++total;
     carried = std::min(keep, n);
     std::memmove(block.data(), block.data() + n - carried, carried);
     block_start += n - carried;
     if (!in) break;
   }
   return found;
+}
+
+// A local heap ("III.D Disk Format: Level 1D - Local Heaps": "HEAP", version
+// 0, 3 reserved bytes, the data segment's size, the free list's offset, the
+// data segment's address) holds a group's link names. libhdf5 1.10 allocates
+// the data segment's size as declared before it reads it; returns why that
+// size cannot be real, or "".
+std::string local_heap_damage(std::ifstream& in, std::uint64_t at, std::uint64_t file_size, std::size_t lengths) {
+  std::vector<unsigned char> h(8 + 2 * lengths);
+  in.clear();
+  in.seekg(static_cast<std::streamoff>(at));
+  if (!in.read(reinterpret_cast<char*>(h.data()), static_cast<std::streamsize>(h.size()))) return "";
+  if (h[4] != 0 || h[5] != 0 || h[6] != 0 || h[7] != 0) return "";  // not a local heap: the bytes only look alike
+  const std::uint64_t size = little_endian(h.data() + 8, lengths);
+  if (size <= file_size) return "";
+  return "declares a data segment of " + std::to_string(size) + " bytes, more than the file's " +
+         std::to_string(file_size);
 }
 
 // Walks one collection's objects the way libhdf5 1.10 does
@@ -113,11 +130,18 @@ void check_global_heaps(const std::filesystem::path& path, const std::string& na
   if (end <= 0) return;
   const auto file_size = static_cast<std::uint64_t>(end);
   const std::size_t lengths = size_of_lengths(in);
-  for (std::uint64_t at : signature_offsets(in)) {
+  const auto found = signature_offsets(in, {"GCOL", "HEAP"});
+  for (std::uint64_t at : found[0]) {
     const std::string why = walk(in, at, file_size, lengths);
     if (!why.empty())
       throw InputError(name, "damaged HDF5 file: the global heap collection at byte " + std::to_string(at) +
                                  " (variable-length strings) is corrupt: " + why);
+  }
+  for (std::uint64_t at : found[1]) {
+    const std::string why = local_heap_damage(in, at, file_size, lengths);
+    if (!why.empty())
+      throw InputError(name, "damaged HDF5 file: the local heap at byte " + std::to_string(at) +
+                                 " (a group's link names) " + why);
   }
 }
 

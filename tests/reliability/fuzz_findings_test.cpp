@@ -308,5 +308,20 @@ TEST(FuzzFinding, ChunksTooLargeToBeRealAreRefusedBeforeLibhdf5AllocatesThem) {
   EXPECT_NE(e.find("huge_chunks.h5: /x_m is stored in chunks of more than 128 MiB"), std::string::npos) << e;
 }
 
+// fuzz_archive_bytes: a group's local heap declares a data segment larger than
+// the file; libhdf5 1.10 asked malloc for it (over 512 MiB) under H5Lexists.
+TEST(FuzzFinding, ALocalHeapLargerThanTheFileIsRefusedBeforeLibhdf5AllocatesIt) {
+  const auto file = kFindings / "libhdf5_local_heap_allocation_archive.h5";
+  const std::string e = input_error([&] { (void)read_provenance(file); });
+  EXPECT_NE(e.find("libhdf5_local_heap_allocation_archive.h5: damaged HDF5 file: the local heap at byte "),
+            std::string::npos)
+      << e;
+  EXPECT_NE(e.find("more than the file's"), std::string::npos) << e;
+  // Sound files with groups pass: the demo data and an archive-like file.
+  for (const char* sample : {"sample_data/kestrel_ridge/run1/daq.h5", "sample_data/kestrel_ridge/run1/piv.h5",
+                             "sample_data/kestrel_ridge/run1/truth.h5"})
+    EXPECT_NO_THROW(h5::check_global_heaps(testing::kSourceDir / sample, sample)) << sample;
+}
+
 }  // namespace
 }  // namespace stallscope

@@ -27,21 +27,25 @@ void to_lab_frame(const AirfoilPlacement& a, double alpha_deg, const AirfoilPoin
 }
 
 std::vector<std::uint8_t> airfoil_mask(const Grid& grid, const AirfoilPlacement& a,
-                                       const theory::Naca4Section& section, double alpha_deg, double offset) {
+                                       const theory::Naca4Section& section, double alpha_deg, double offset,
+                                       double band) {
   std::vector<std::uint8_t> mask(grid.size(), 0);
+  const double reach = offset + band;
   for (std::size_t j = 0; j < grid.ny(); ++j)
     for (std::size_t i = 0; i < grid.nx(); ++i) {
       const AirfoilPoint p = to_airfoil_frame(a, alpha_deg, grid.x_m[i], grid.y_m[j]);
-      if (p.x_over_c < -offset || p.x_over_c > 1 + offset) continue;
-      bool inside;
+      if (p.x_over_c < -reach || p.x_over_c > 1 + reach) continue;
+      // How far outside the section the point lies: across the chord along its
+      // span, radially ahead of the nose, the larger of either behind the tail.
+      double outside;
       if (p.x_over_c < 0) {
-        inside = std::hypot(p.x_over_c, p.y_over_c) <= offset;
+        outside = std::hypot(p.x_over_c, p.y_over_c);
       } else {
         const double x = std::min(p.x_over_c, 1.0);
-        inside = std::abs(p.y_over_c - theory::naca4_camber(section, x)) <=
-                 theory::naca4_half_thickness(section, x) + offset;
+        outside = std::abs(p.y_over_c - theory::naca4_camber(section, x)) - theory::naca4_half_thickness(section, x);
+        outside = std::max(outside, p.x_over_c - 1.0);  // a square end behind the trailing edge
       }
-      mask[j * grid.nx() + i] = inside ? 1 : 0;
+      mask[j * grid.nx() + i] = outside <= offset ? 1 : (band > 0 && outside <= reach ? 2 : 0);
     }
   return mask;
 }

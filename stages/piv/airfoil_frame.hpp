@@ -28,8 +28,10 @@ void to_lab_frame(const AirfoilPlacement& placement, double alpha_deg, const Air
                   double& y_m);
 
 // 1 for grid points inside the section grown by offset_over_c (the wall
-// region where PIV vectors are not flow), 0 elsewhere.
+// region where PIV vectors are not flow), 2 in the next band_over_c beyond
+// it (the wall band, where glare is looked for), 0 elsewhere.
 std::vector<std::uint8_t> airfoil_mask(const Grid& grid, const AirfoilPlacement& placement,
-                                       const theory::Naca4Section& section, double alpha_deg, double offset_over_c);
+                                       const theory::Naca4Section& section, double alpha_deg, double offset_over_c,
+                                       double band_over_c = 0);
 
 }  // namespace stallscope::piv

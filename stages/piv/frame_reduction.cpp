@@ -28,9 +28,17 @@ ReducedFrame reduce_frame(const Grid& grid, const FrameRecipe& recipe, Frame& fr
     for (std::size_t p = 0; p < frame.u.size(); ++p) frame.u[p] *= scale, frame.v[p] *= scale;
   }
   std::vector<std::uint8_t> mask;
+  const bool glare = recipe.section && recipe.reflection_band_over_c > 0 && recipe.reflection_speed_m_s > 0;
   if (recipe.section)
-    mask = airfoil_mask(grid, recipe.placement, *recipe.section, alpha_deg, recipe.mask_offset_over_c);
+    mask = airfoil_mask(grid, recipe.placement, *recipe.section, alpha_deg, recipe.mask_offset_over_c,
+                        glare ? recipe.reflection_band_over_c : 0.0);
+  // Regions before glare: a vector the user masked is not counted twice.
+  const std::size_t in_regions =
+      recipe.regions.empty() ? 0 : mark_regions(grid, recipe.placement, alpha_deg, frame.index, recipe.regions, mask);
+  const std::size_t reflections = glare ? mark_reflections(grid, frame, recipe.reflection_speed_m_s, mask) : 0;
   r.counts = validate_frame(grid, frame, mask, recipe.median, r.replaced);
+  r.counts.regions = in_regions;
+  r.counts.reflections = reflections;
   if (r.counts.missing == r.counts.vectors) {
     r.flag = "no valid vectors";
   } else if (static_cast<double>(r.counts.replaced + r.counts.unrecoverable) >
@@ -57,7 +65,11 @@ Table recipe_table(const RecipeRecord& record) {
       .add({"pivot_x_m", "m", Numbers{r.placement.pivot_x_m}}).add({"pivot_y_m", "m", Numbers{r.placement.pivot_y_m}})
       .add({"chord_angle_offset_deg", "deg", Numbers{r.placement.chord_angle_offset_deg}})
       .add({"airfoil_mask", "1", Integers{r.section ? 1 : 0}})
-      .add({"mask_offset_over_c", "1", Numbers{r.mask_offset_over_c}});
+      .add({"mask_offset_over_c", "1", Numbers{r.mask_offset_over_c}})
+      .add({"reflection_band_over_c", "1", Numbers{r.reflection_band_over_c}})
+      .add({"reflection_speed_m_s", "m/s", Numbers{r.reflection_speed_m_s}})
+      .add({"patch_min_cells", "1", Integers{r.median.patch_min_cells}})
+      .add({"mask_regions", "", Texts{regions_text(r.regions)}});
   return t;
 }
 
@@ -76,6 +88,10 @@ RecipeRecord recipe_from_table(const Table& t, std::optional<theory::Naca4Sectio
   r.placement.pivot_y_m = t.numbers("pivot_y_m").at(0);
   r.placement.chord_angle_offset_deg = t.numbers("chord_angle_offset_deg").at(0);
   r.mask_offset_over_c = t.numbers("mask_offset_over_c").at(0);
+  r.reflection_band_over_c = t.numbers("reflection_band_over_c").at(0);
+  r.reflection_speed_m_s = t.numbers("reflection_speed_m_s").at(0);
+  r.median.patch_min_cells = static_cast<int>(t.integers("patch_min_cells").at(0));
+  r.regions = regions_from_text(t.texts("mask_regions").at(0));
   if (t.integers("airfoil_mask").at(0) != 0) r.section = std::move(section);
   return record;
 }

@@ -1,7 +1,8 @@
 #pragma once
 // One PIV frame from file values to a swirl-strength field: velocity to m/s,
-// the airfoil mask at the frame's angle, the normalised median test with
-// replacement, then the gradients. [piv] reduces every frame this way; the
+// the airfoil mask at the frame's angle, the user's regions, glare at the
+// wall, the normalised median test with replacement (patches of bad vectors
+// masked), then the gradients. [piv] reduces every frame this way; the
 // recipe it used is archived (piv/processing) so [vortex] can reduce the one
 // frame it shows again, the same way, without holding fields in memory.
 #include <filesystem>
@@ -12,6 +13,7 @@
 #include "pipeline/values.hpp"
 #include "stages/piv/airfoil_frame.hpp"
 #include "stages/piv/frame_source.hpp"
+#include "stages/piv/masks.hpp"
 #include "stages/piv/swirl.hpp"
 #include "stages/piv/validation.hpp"
 #include "stages/theory/naca4.hpp"
@@ -26,6 +28,9 @@ struct FrameRecipe {
   AirfoilPlacement placement;
   std::optional<theory::Naca4Section> section;  // the mask's section; none: no mask
   double mask_offset_over_c = 0.01;
+  double reflection_band_over_c = 0;  // glare looked for this far beyond the mask (0: not looked for)
+  double reflection_speed_m_s = 0;    // slower vectors in that band are glare
+  std::vector<MaskRegion> regions;    // the user's
 };
 
 struct ReducedFrame {

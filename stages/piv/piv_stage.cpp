@@ -117,6 +117,39 @@ std::vector<piv::RegistrationFrame> registration_frames(const std::vector<Sample
   return out;
 }
 
+// [piv.masks.NAME] tables: the user's regions.
+std::vector<piv::MaskRegion> mask_regions(ConfigSection masks) {
+  std::vector<piv::MaskRegion> out;
+  for (const std::string& name : masks.keys()) {
+    ConfigSection m = masks.subsection(name);
+    piv::MaskRegion r;
+    r.name = name;
+    masks.require(!name.empty() && name.find_first_of(" \t\n") == std::string::npos, name,
+                  "expected a region name without spaces");
+    r.moves_with_model = m.choice("frame", {"lab", "airfoil"}, "lab") == "airfoil";
+    r.x = m.numbers("x", {});
+    r.y = m.numbers("y", {});
+    m.require(r.x.size() >= 3, "x", "expected the polygon's vertices, at least 3 (lab: m, airfoil: x/c)");
+    m.require(r.y.size() == r.x.size(), "y", "expected as many vertices as x has");
+    for (std::size_t k = 0; k < r.x.size(); ++k) {
+      m.require(std::isfinite(r.x[k]), "x", "expected finite vertices");
+      m.require(std::isfinite(r.y[k]), "y", "expected finite vertices");
+    }
+    const std::vector<double> frames = m.numbers("frames", {});
+    if (!frames.empty()) {
+      m.require(frames.size() == 2 && frames[0] >= 0 && frames[1] >= frames[0] && frames[0] == std::floor(frames[0]) &&
+                    frames[1] == std::floor(frames[1]) && frames[1] < 1e15,
+                "frames", "expected [first, last], whole frame numbers from 0, first <= last");
+      r.first_frame = static_cast<std::size_t>(frames[0]);
+      r.last_frame = static_cast<std::size_t>(frames[1]);
+    }
+    m.reject_unknown_keys();
+    out.push_back(std::move(r));
+  }
+  masks.reject_unknown_keys();
+  return out;
+}
+
 }  // namespace
 
 void PivStage::configure(ConfigSection& s) {
@@ -170,6 +203,17 @@ void PivStage::configure(ConfigSection& s) {
   o.mask_offset_over_c = s.number("mask_offset_over_c", o.mask_offset_over_c);
   s.require(o.mask_offset_over_c >= 0 && o.mask_offset_over_c < 0.5, "mask_offset_over_c",
             "expected a wall band in chords, 0 to 0.5");
+  o.reflection_band_over_c = s.number("reflection_band_over_c", o.reflection_band_over_c);
+  s.require(o.reflection_band_over_c >= 0 && o.reflection_band_over_c < 0.5, "reflection_band_over_c",
+            "expected a band in chords, 0 to 0.5 (0: no glare search)");
+  o.reflection_speed_fraction = s.number("reflection_speed_fraction", o.reflection_speed_fraction);
+  s.require(o.reflection_speed_fraction >= 0 && o.reflection_speed_fraction < 1, "reflection_speed_fraction",
+            "expected a fraction of U_inf, 0 to 1");
+  s.require(o.mask_airfoil || o.reflection_band_over_c == 0 || !s.has("reflection_band_over_c"),
+            "reflection_band_over_c", "the glare band lies beside the airfoil mask: needs mask_airfoil = true");
+  o.patch_min_cells = s.integer("patch_min_cells", o.patch_min_cells);
+  s.require(o.patch_min_cells >= 0, "patch_min_cells", "expected a number of cells, >= 0 (0: fill every bad vector)");
+  o.masks = mask_regions(s.subsection("masks"));
   o.noise_factor = s.number("noise_factor", o.noise_factor);
   s.require(o.noise_factor > 0, "noise_factor", "expected a multiple of the noise level, > 0");
   o.min_swirl_1_s = s.number("min_swirl_1_s", o.min_swirl_1_s);
@@ -281,6 +325,10 @@ void PivStage::run(RunContext& context) {
                       o.chord_angle_offset_deg};
   if (o.mask_airfoil) recipe.section = piv::mask_section(store.get<Text>("run/airfoil").value, where_airfoil_);
   recipe.mask_offset_over_c = o.mask_offset_over_c;
+  recipe.reflection_band_over_c = o.reflection_band_over_c;
+  recipe.reflection_speed_m_s = o.reflection_speed_fraction * speed;
+  recipe.median.patch_min_cells = static_cast<int>(o.patch_min_cells);
+  recipe.regions = o.masks;
   const std::vector<SampleFrame> samples = sample_frames(*source, alpha);
   if (recipe.section) {
     // The configured place checked against the data, or found from it.
@@ -398,6 +446,7 @@ void PivStage::run(RunContext& context) {
 
   // Per-frame table.
   std::vector<std::int64_t> frame_no, pulse, vectors, missing, outliers, replaced, unrecoverable, ndet;
+  std::vector<std::int64_t> in_regions, reflections, patches;
   std::vector<double> t_cam, t_daq, t_sigma, alpha_col, noise, threshold, random_error;
   std::vector<std::string> status, reason;
   // Per-detection table.
@@ -419,6 +468,9 @@ void PivStage::run(RunContext& context) {
     outliers.push_back(static_cast<std::int64_t>(r.counts.outliers));
     replaced.push_back(static_cast<std::int64_t>(r.counts.replaced));
     unrecoverable.push_back(static_cast<std::int64_t>(r.counts.unrecoverable));
+    in_regions.push_back(static_cast<std::int64_t>(r.counts.regions));
+    reflections.push_back(static_cast<std::int64_t>(r.counts.reflections));
+    patches.push_back(static_cast<std::int64_t>(r.counts.patches));
     noise.push_back(r.noise);
     random_error.push_back(r.random_error);
     threshold.push_back(r.threshold);
@@ -458,13 +510,19 @@ void PivStage::run(RunContext& context) {
       .add({"t_fit_uncertainty_s", "s", t_sigma}).add({"trigger_pulse", "1", pulse})
       .add({"alpha_deg", "deg", alpha_col}).add({"vectors", "1", vectors})
       .add({"missing", "1", missing}).add({"outliers", "1", outliers}).add({"replaced", "1", replaced})
-      .add({"unrecoverable", "1", unrecoverable}).add({"random_error_m_s", "m/s", random_error})
+      .add({"unrecoverable", "1", unrecoverable}).add({"masked_regions", "1", in_regions})
+      .add({"masked_reflections", "1", reflections}).add({"masked_patches", "1", patches})
+      .add({"random_error_m_s", "m/s", random_error})
       .add({"noise_swirl_1_s", "1/s", noise})
       .add({"threshold_1_s", "1/s", threshold}).add({"detections", "1", ndet})
       .add({"not_vortex_cores", "1", not_cores}).add({"status", "", status})
       .add({"reason", "", reason});
   store.put("piv/frames", std::move(ft),
-            {{"note", std::string("t_s on the DAQ clock; flagged frames were not searched for vortices")}});
+            {{"note", std::string("t_s on the DAQ clock; flagged frames were not searched for vortices")},
+             {"masked", std::string("masked_regions: inside the user's [piv.masks]; masked_reflections: slower than "
+                                    "reflection_speed_fraction U within reflection_band_over_c of the airfoil mask; "
+                                    "masked_patches: missing or spurious vectors in a connected patch of at least "
+                                    "patch_min_cells (a shadow or dropout), left empty rather than filled")}});
   Table dt;
   dt.add({"frame", "1", d_frame}).add({"t_s", "s", d_t}).add({"sign", "1", d_sign}).add({"x_m", "m", d_xm})
       .add({"y_m", "m", d_ym}).add({"x_over_c", "1", d_xc}).add({"y_over_c", "1", d_yc})

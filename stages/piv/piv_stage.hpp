@@ -11,6 +11,7 @@
 #include <string>
 
 #include "pipeline/stage.hpp"
+#include "stages/piv/masks.hpp"
 
 namespace stallscope {
 
@@ -46,6 +47,12 @@ class PivStage final : public Stage {
     double registration_search_deg = 3.0;
     bool mask_airfoil = true;
     double mask_offset_over_c = 0.01;            // wall band masked beside the section
+    double reflection_band_over_c = 0.02;        // glare looked for this far beyond that band (0: not looked for)
+    double reflection_speed_fraction = 0.1;      // of U_inf: a slower vector there is glare (common practice)
+    std::int64_t patch_min_cells = 16;           // bad vectors in a patch this large are masked, not filled (0: never)
+    // [piv.masks.NAME]: x = [...], y = [...] (a polygon), frame = "lab" (m)
+    // or "airfoil" (x/c, y/c: moves with the model), frames = [first, last].
+    std::vector<piv::MaskRegion> masks;
     double noise_factor = 3.0;
     double min_swirl_1_s = 0;
     std::int64_t min_region_cells = 4;

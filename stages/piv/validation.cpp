@@ -4,6 +4,8 @@
 #include <cmath>
 #include <stdexcept>
 
+#include "stages/piv/masks.hpp"
+
 namespace stallscope::piv {
 
 double median_of(std::vector<double> values) {
@@ -61,14 +63,19 @@ ValidationCounts validate_frame(const Grid& grid, Frame& f, const std::vector<st
           normalised_median_residual(f.v[p], nv, o.epsilon) > o.threshold)
         outlier[p] = 1, ++c.outliers;
     }
-  std::vector<std::uint8_t> good(n);
+  std::vector<std::uint8_t> good(n), patch;
   for (std::size_t p = 0; p < n; ++p) good[p] = usable[p] && !outlier[p];
+  if (o.patch_min_cells > 0) {
+    std::vector<std::uint8_t> bad(n);
+    for (std::size_t p = 0; p < n; ++p) bad[p] = !good[p] && !(!masked.empty() && masked[p]);
+    c.patches = mark_patches(grid, bad, o.patch_min_cells, patch);
+  }
   replaced.assign(n, 0);
   std::vector<float> u = f.u, v = f.v;
   for (std::size_t j = 0; j < ny; ++j)
     for (std::size_t i = 0; i < nx; ++i) {
       const std::size_t p = j * nx + i;
-      const bool out = !masked.empty() && masked[p];
+      const bool out = (!masked.empty() && masked[p]) || (!patch.empty() && patch[p]);
       if (out) {
         u[p] = v[p] = std::nanf("");
         f.valid[p] = 0;

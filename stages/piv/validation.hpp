@@ -14,6 +14,7 @@ struct MedianTestOptions {
   double threshold = 2.0;   // published default
   double epsilon = 0.1;     // in the velocity's units (0.1 px/frame published)
   int min_neighbours = 3;   // fewer valid neighbours: not tested / not replaceable (common practice)
+  int patch_min_cells = 0;  // a connected patch of this many bad vectors is masked, not filled (0: never)
 };
 
 // The median of a small set; the mean of the middle two for an even count.
@@ -27,6 +28,9 @@ struct ValidationCounts {
   std::size_t outliers = 0;       // failed the median test
   std::size_t replaced = 0;       // missing or outliers filled by the local median
   std::size_t unrecoverable = 0;  // left empty: too few valid neighbours
+  std::size_t patches = 0;        // missing or outliers in a patch of at least patch_min_cells, masked
+  std::size_t regions = 0;        // masked by a user's region (not in `vectors`)
+  std::size_t reflections = 0;    // masked as glare at the wall (not in `vectors`)
 };
 
 // The random error of one velocity component (one standard deviation, in the
@@ -41,7 +45,7 @@ double random_error(const Grid& grid, const Frame& frame);
 
 // Tests and repairs a frame in place. `masked` (size of the grid, may be
 // empty) marks points outside the flow (inside the airfoil): they are emptied
-// and never used. `replaced` (out, resized) marks vectors that were filled.
+// and never used; so are the patches of bad vectors (patch_min_cells). `replaced` (out, resized) marks vectors that were filled.
 ValidationCounts validate_frame(const Grid& grid, Frame& frame, const std::vector<std::uint8_t>& masked,
                                 const MedianTestOptions& options, std::vector<std::uint8_t>& replaced);
 

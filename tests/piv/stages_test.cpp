@@ -252,6 +252,37 @@ TEST(PivStage, AReplicaAddsNoiseOfTheEstimatedRandomErrorOnlyWhenAskedTo) {
   EXPECT_GT(moved, both / 2);
 }
 
+TEST(PivStage, MasksTheUsersRegionsInTheirFramesAndCountsThem) {
+  // A lab box over the downstream corner for frames 5 to 9, and a box riding
+  // on the trailing edge for every frame.
+  const std::string masks = kConfig.substr(0, kConfig.find("[vortex]")) +
+                            "[piv.masks.window_edge]\nx = [0.2, 0.3, 0.3, 0.2]\ny = [0.05, 0.05, 0.2, 0.2]\n"
+                            "frames = [5, 9]\n"
+                            "[piv.masks.te_band]\nframe = \"airfoil\"\nx = [0.95, 1.1, 1.1, 0.95]\n"
+                            "y = [-0.05, -0.05, 0.05, 0.05]\n";
+  PivRun plain, masked;
+  plain.run_stage<PivStage>(kConfig, "piv", 2);
+  masked.run_stage<PivStage>(masks, "piv", 2);
+  const Table &a = plain.store.get<Table>("piv/frames"), &b = masked.store.get<Table>("piv/frames");
+  const piv::Grid g = piv::testing::uniform_grid(-0.02, 0.28, -0.04, 0.10, 0.0025);
+  std::size_t corner = 0;  // grid points in the lab box
+  for (double x : g.x_m)
+    for (double y : g.y_m) corner += x >= 0.2 && x <= 0.3 && y >= 0.05 && y <= 0.2;
+  ASSERT_GT(corner, 50u);
+  for (std::size_t f = 0; f < 12; ++f) {
+    EXPECT_EQ(a.integers("masked_regions")[f], 0);
+    const std::int64_t in = b.integers("masked_regions")[f];
+    // The trailing-edge box covers 0.15 c by 0.1 c less what the section's mask holds.
+    const std::int64_t te = in - (f >= 5 && f <= 9 ? static_cast<std::int64_t>(corner) : 0);
+    EXPECT_GT(te, 20) << f;
+    EXPECT_LT(te, 0.15 * 0.1 * kChord * kChord / (0.0025 * 0.0025)) << f;
+    EXPECT_EQ(b.integers("vectors")[f], a.integers("vectors")[f] - in) << f;
+  }
+  const std::string regions = masked.store.get<Table>("piv/processing").texts("mask_regions").at(0);
+  EXPECT_NE(regions.find("window_edge lab 5 9 0.20000000000000001,0.050000000000000003"), std::string::npos) << regions;
+  EXPECT_NE(regions.find("te_band airfoil 0 end"), std::string::npos) << regions;
+}
+
 TEST(PivStage, GivesTheSameDetectionsOnOneAndTwoThreads) {
   PivRun one, two;
   one.run_stage<PivStage>(kConfig, "piv", 1);

@@ -144,6 +144,8 @@ def main():
     write_piv_h5(write_run("piv_h5_shape_mismatch", piv="piv.h5"), u_shape=(4, 5, 5))
     write_piv_h5(write_run("piv_h5_grid_not_monotonic", piv="piv.h5"), x_m=[0.0, 0.03, 0.09, 0.06, 0.12, 0.15])
     write_piv_text(write_run("piv_text_off_grid", piv="frames"), off_grid_frame=2)
+    write_piv_h5(write_run("piv_mask_region_two_vertices", piv="piv.h5",
+                           extra="\n[piv.masks.window_edge]\nx = [0.0, 0.15]\ny = [0.05, 0.06]\n"))
     write_campaign("campaign_missing_run_config",
                    '[campaign]\nname = "cat-campaign"\n\n[[runs]]\nconfig = "run.toml"\n\n'
                    '[[runs]]\nconfig = "runs/cat-02.toml"\n')

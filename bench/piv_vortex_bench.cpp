@@ -7,6 +7,7 @@
 #include <cmath>
 #include <vector>
 
+#include "pipeline/allocator.hpp"
 #include "stages/piv/detection.hpp"
 #include "stages/piv/swirl.hpp"
 #include "stages/piv/tracking.hpp"
@@ -55,6 +56,8 @@ const std::vector<piv::Frame>& frames(piv::Grid& grid) {
 }
 
 void run(benchmark::State& state, int threads) {
+  keep_large_blocks_for_reuse();  // as the command does
+  piv::label_regions_in_caller_threads();
   piv::Grid grid;
   const auto& stored = frames(grid);
   for (auto _ : state) {

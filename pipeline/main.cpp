@@ -13,6 +13,7 @@
 #include "pipeline/campaign/campaign.hpp"
 #include "pipeline/inspect.hpp"
 #include "pipeline/reduce.hpp"
+#include "stages/piv/detection.hpp"
 #include "pipeline/registry.hpp"
 #include "stages/fit/fit_command.hpp"
 #include "tools/synth/synth_command.hpp"
@@ -141,6 +142,7 @@ int run(int argc, char** argv) {
 
 int main(int argc, char** argv) {
   stallscope::keep_large_blocks_for_reuse();
+  stallscope::piv::label_regions_in_caller_threads();
   try {
     return run(argc, argv);
   } catch (const stallscope::InputError& e) {

@@ -15,10 +15,10 @@ double noise_swirl(const SwirlField& field) {
   for (double x : field.vorticity)
     if (std::isfinite(x)) w.push_back(x);
   if (w.empty()) return 0.0;
-  const double m = median_of(w);
+  const double m = median_in_place(w);
   for (double& x : w) x = std::abs(x - m);
   // 1.4826 MAD is the standard deviation of Gaussian noise.
-  return 0.5 * 1.4826 * median_of(std::move(w));
+  return 0.5 * 1.4826 * median_in_place(w);
 }
 
 int label_regions(const std::vector<std::uint8_t>& mask, std::size_t ny, std::size_t nx, std::vector<int>& labels) {
@@ -31,6 +31,8 @@ int label_regions(const std::vector<std::uint8_t>& mask, std::size_t ny, std::si
   const int n = cv::connectedComponentsWithStats(in, out, stats, centroids, 8, CV_32S);
   return n - 1;
 }
+
+void label_regions_in_caller_threads() { cv::setNumThreads(1); }
 
 std::vector<double> cell_areas(const Grid& g) {
   // Half the distance between the neighbours on each side (half a spacing at an edge).

@@ -42,6 +42,9 @@ double noise_swirl(const SwirlField& field);
 
 // 8-connected labels (1..count, 0 background) of a ny x nx mask, by OpenCV.
 int label_regions(const std::vector<std::uint8_t>& mask, std::size_t ny, std::size_t nx, std::vector<int>& labels);
+// Frames (and runs) are reduced in parallel already: OpenCV's own thread pool
+// inside each labelling only oversubscribes the cores. Call once, at start.
+void label_regions_in_caller_threads();
 
 // The threshold used is returned in *threshold if given. `replaced` may be empty.
 std::vector<Detection> detect_vortices(const Grid& grid, const SwirlField& field,

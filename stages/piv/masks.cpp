@@ -59,7 +59,7 @@ std::size_t mark_reflections(const Grid& grid, const Frame& f, double speed_m_s,
           if (q != p && mask[q] != 1 && usable(q)) nu.push_back(f.u[q]), nv.push_back(f.v[q]);
         }
       if (nu.empty()) continue;
-      if (std::hypot(f.u[p] - median_of(nu), f.v[p] - median_of(nv)) > 2 * speed_m_s) glare.push_back(p);
+      if (std::hypot(f.u[p] - median_in_place(nu), f.v[p] - median_in_place(nv)) > 2 * speed_m_s) glare.push_back(p);
     }
   for (std::uint8_t& m : mask)
     if (m == 2) m = 0;

@@ -1,28 +1,35 @@
 #include "stages/piv/validation.hpp"
 
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <stdexcept>
 
+#include "stages/numerics/statistics.hpp"
 #include "stages/piv/masks.hpp"
 
 namespace stallscope::piv {
 
-double median_of(std::vector<double> values) {
+double median_in_place(std::span<double> values) {
   if (values.empty()) throw std::logic_error("median of no values");
   const std::size_t n = values.size(), mid = n / 2;
-  std::nth_element(values.begin(), values.begin() + static_cast<std::ptrdiff_t>(mid), values.end());
-  const double upper = values[mid];
-  if (n % 2) return upper;
-  const double lower = *std::max_element(values.begin(), values.begin() + static_cast<std::ptrdiff_t>(mid));
+  if (n % 2) return numerics::order_pair(values, mid).first;
+  const auto [lower, upper] = numerics::order_pair(values, mid - 1);
   return 0.5 * (lower + upper);
 }
 
-double normalised_median_residual(double value, const std::vector<double>& neighbours, double epsilon) {
-  const double um = median_of(neighbours);
-  std::vector<double> r(neighbours.size());
-  for (std::size_t k = 0; k < neighbours.size(); ++k) r[k] = std::abs(neighbours[k] - um);
-  return std::abs(value - um) / (median_of(std::move(r)) + epsilon);
+double median_of(std::vector<double> values) { return median_in_place(values); }
+
+double normalised_median_residual(double value, std::span<const double> neighbours, double epsilon) {
+  // The 8 neighbours of a grid point fit on the stack: no allocation per point.
+  std::array<double, 8> buffer;
+  std::vector<double> large;
+  std::span<double> a = neighbours.size() <= buffer.size() ? std::span<double>(buffer.data(), neighbours.size())
+                                                           : std::span<double>(large = {neighbours.begin(), neighbours.end()});
+  std::copy(neighbours.begin(), neighbours.end(), a.begin());
+  const double um = median_in_place(a);
+  for (std::size_t k = 0; k < a.size(); ++k) a[k] = std::abs(neighbours[k] - um);
+  return std::abs(value - um) / (median_in_place(a) + epsilon);
 }
 
 ValidationCounts validate_frame(const Grid& grid, Frame& f, const std::vector<std::uint8_t>& masked,
@@ -92,8 +99,8 @@ ValidationCounts validate_frame(const Grid& grid, Frame& f, const std::vector<st
         ++c.unrecoverable;
         continue;
       }
-      u[p] = static_cast<float>(median_of(nu));
-      v[p] = static_cast<float>(median_of(nv));
+      u[p] = static_cast<float>(median_in_place(nu));
+      v[p] = static_cast<float>(median_in_place(nv));
       f.valid[p] = 1;
       replaced[p] = 1;
       ++c.replaced;
@@ -117,9 +124,9 @@ double random_error(const Grid& grid, const Frame& f) {
   if (r.size() < 20) return std::nan("");
   // A spurious vector spoils its own residual and its four neighbours': drop
   // residuals beyond 4 sigma of a first estimate, then estimate again.
-  const double first = 1.4826 * median_of(r);
+  const double first = 1.4826 * median_in_place(r);
   std::erase_if(r, [&](double x) { return x > 4 * first; });
-  return 1.4826 * median_of(std::move(r)) / std::sqrt(1.25);
+  return 1.4826 * median_in_place(r) / std::sqrt(1.25);
 }
 
 }  // namespace stallscope::piv

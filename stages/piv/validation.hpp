@@ -4,6 +4,7 @@
 // the valid 3x3 neighbours; an outlier in either component is replaced by the
 // local median of its valid neighbours.
 #include <cstdint>
+#include <span>
 #include <vector>
 
 #include "stages/piv/frame_source.hpp"
@@ -17,10 +18,12 @@ struct MedianTestOptions {
   int patch_min_cells = 0;  // a connected patch of this many bad vectors is masked, not filled (0: never)
 };
 
-// The median of a small set; the mean of the middle two for an even count.
+// The median; the mean of the middle two for an even count. The first
+// reorders its values, the second a copy.
+double median_in_place(std::span<double> values);
 double median_of(std::vector<double> values);
 // r0* of one value against its neighbours (at least one).
-double normalised_median_residual(double value, const std::vector<double>& neighbours, double epsilon);
+double normalised_median_residual(double value, std::span<const double> neighbours, double epsilon);
 
 struct ValidationCounts {
   std::size_t vectors = 0;        // points in the flow (not masked)

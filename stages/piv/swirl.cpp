@@ -43,7 +43,7 @@ struct AxisWeights {
 
 // Points 1 to nx - 2 of row j, every neighbour valid: the same sums as
 // AxisWeights::derivative and swirl_strength, in the same order, so the
-// result is the point-by-point one to the bit.
+// result is the point-by-point one to the bit (a zero vorticity may lose its sign).
 void central_row(const AxisWeights& wx, const AxisWeights& wy, const Frame& f, std::size_t j, std::size_t nx,
                  SwirlField& out) {
   const float *u = f.u.data() + j * nx, *v = f.v.data() + j * nx;
@@ -59,11 +59,14 @@ void central_row(const AxisWeights& wx, const AxisWeights& wy, const Frame& f, s
     const double vx = xm[i] * v[i - 1] + xc[i] * v[i] + xp[i] * v[i + 1];
     const double uy = ym * u_below[i] + yc * u[i] + yp * u_above[i];
     const double vy = ym * v_below[i] + yc * v[i] + yp * v_above[i];
-    const bool finite = std::isfinite(ux + uy + vx + vy);  // a non-finite value marked valid
+    // +0 for finite gradients, NaN for a non-finite value marked valid: added
+    // to both results, it leaves them as they are or makes them NaN, without
+    // the branch that would stop the loop vectorising.
+    const double sum = ux + uy + vx + vy, nan_unless_finite = sum - sum;
     const double half_trace = 0.5 * (ux + vy);
     const double disc = (ux * vy - uy * vx) - half_trace * half_trace;
-    vorticity[i] = finite ? vx - uy : kNaN;
-    swirl[i] = finite ? (disc > 0 ? std::sqrt(disc) : 0.0) : kNaN;
+    vorticity[i] = (vx - uy) + nan_unless_finite;
+    swirl[i] = std::sqrt(disc > 0 ? disc : 0.0) + nan_unless_finite;  // vectorises: built without math errno
   }
 }
 

@@ -27,9 +27,7 @@ int label_regions(const std::vector<std::uint8_t>& mask, std::size_t ny, std::si
   if (mask.empty()) return 0;
   cv::Mat in(static_cast<int>(ny), static_cast<int>(nx), CV_8U, const_cast<std::uint8_t*>(mask.data()));
   cv::Mat out(static_cast<int>(ny), static_cast<int>(nx), CV_32S, labels.data());
-  cv::Mat stats, centroids;
-  const int n = cv::connectedComponentsWithStats(in, out, stats, centroids, 8, CV_32S);
-  return n - 1;
+  return cv::connectedComponents(in, out, 8, CV_32S) - 1;  // without stats: the caller needs only the labels
 }
 
 void label_regions_in_caller_threads() { cv::setNumThreads(1); }

@@ -89,8 +89,19 @@ std::vector<Detection> detect_vortices(const Grid& grid, const SwirlField& field
       if (labels[p]) cells[static_cast<std::size_t>(labels[p])].push_back(p);
     UnionFind uf(count + 1);
     const long reach = o.cluster_gap_cells + 1;  // Chebyshev distance between cells that merge
+    // Only a region's edge needs looking from: from a cell whose 8 neighbours
+    // are all its own, a step toward any cell in reach is a cell of the region
+    // nearer to it, and so on until an edge cell, still in reach.
+    auto interior = [&](std::size_t p, int a) {
+      const std::size_t pj = p / nx, pi = p % nx;
+      if (pj == 0 || pi == 0 || pj + 1 == ny || pi + 1 == nx) return false;
+      for (std::size_t q : {p - nx - 1, p - nx, p - nx + 1, p - 1, p + 1, p + nx - 1, p + nx, p + nx + 1})
+        if (labels[q] != a) return false;
+      return true;
+    };
     for (int a = 1; a <= count; ++a)
       for (const std::size_t p : cells[static_cast<std::size_t>(a)]) {
+        if (interior(p, a)) continue;
         const long pj = static_cast<long>(p / nx), pi = static_cast<long>(p % nx);
         for (long dj = -reach; dj <= reach; ++dj)
           for (long di = -reach; di <= reach; ++di) {

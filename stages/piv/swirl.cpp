@@ -4,6 +4,7 @@
 #include <algorithm>
 #include <array>
 #include <cmath>
+#include <cstring>
 #include <limits>
 #include <numbers>
 
@@ -85,17 +86,17 @@ SwirlField swirl_field(const Grid& grid, const Frame& f, GradientScheme scheme) 
   out.swirl.assign(n, kNaN);
   auto valid = [&](std::size_t p) { return f.valid[p] != 0; };
   const AxisWeights wx(grid.x_m), wy(grid.y_m);
+  // Rows with no invalid point.
+  std::vector<std::uint8_t> full(ny);
+  for (std::size_t j = 0; j < ny; ++j) full[j] = std::memchr(f.valid.data() + j * nx, 0, nx) == nullptr;
   for (std::size_t j = 0; j < ny; ++j) {
     // A row whose neighbours above and below are all valid as well (most of
     // a field) takes the three-point formula straight, in a loop the compiler
     // vectorises; its ends, and every other row, go point by point.
-    const bool whole = scheme == GradientScheme::kCentral && j > 0 && j + 1 < ny && nx > 2 &&
-                       std::all_of(f.valid.begin() + static_cast<std::ptrdiff_t>((j - 1) * nx),
-                                   f.valid.begin() + static_cast<std::ptrdiff_t>((j + 2) * nx),
-                                   [](std::uint8_t ok) { return ok != 0; });
+    const bool whole = scheme == GradientScheme::kCentral && j > 0 && j + 1 < ny && nx > 2 && full[j - 1] &&
+                       full[j] && full[j + 1];
     if (whole) central_row(wx, wy, f, j, nx, out);
-    for (std::size_t i = 0; i < nx; ++i) {
-      if (whole && i > 0 && i + 1 < nx) continue;
+    for (std::size_t i = 0; i < nx; i += whole && i == 0 ? nx - 1 : 1) {
       const std::size_t p = j * nx + i;
       if (!valid(p)) continue;
       double ux = kNaN, uy = kNaN, vx = kNaN, vy = kNaN;

@@ -139,6 +139,36 @@ TEST(OrderPair, GivesTheKthAndNextSmallestAndTheLargestTwiceAtTheEnd) {
   EXPECT_THROW(order_pair(none, 0), std::invalid_argument);
 }
 
+TEST(OrderPair, BracketsALargeSetExactlyWhateverItsShape) {
+  // Above 4096 values a sample brackets k first: every shape of data, and k
+  // where the sample's margin runs off either end, must give std::sort's answer.
+  std::mt19937 rng(11);
+  std::normal_distribution<double> normal(0.0, 1.0);
+  std::uniform_int_distribution<int> few(0, 3);
+  const std::size_t n = 20000;
+  std::vector<std::vector<double>> shapes(5, std::vector<double>(n));
+  for (std::size_t i = 0; i < n; ++i) {
+    shapes[0][i] = normal(rng);                                            // noise
+    shapes[1][i] = few(rng);                                               // four values only
+    shapes[2][i] = static_cast<double>(i);                                 // sorted
+    shapes[3][i] = static_cast<double>(n - i);                             // reversed
+    shapes[4][i] = i % 7 == 0 ? 1e3 * normal(rng) : 1e-3 * normal(rng);   // a field: cores amid noise
+  }
+  for (std::size_t s = 0; s < shapes.size(); ++s) {
+    std::vector<double> sorted = shapes[s];
+    std::sort(sorted.begin(), sorted.end());
+    for (const std::size_t k : {std::size_t{0}, std::size_t{5}, std::size_t{100}, n / 3, n / 2 - 1, n / 2,
+                                n - 101, n - 2, n - 1}) {
+      std::vector<double> w = shapes[s];
+      const auto [a, b] = order_pair(w, k);
+      EXPECT_EQ(a, sorted[k]) << "shape " << s << " k " << k;
+      EXPECT_EQ(b, sorted[std::min(k + 1, n - 1)]) << "shape " << s << " k " << k;
+      std::sort(w.begin(), w.end());
+      EXPECT_EQ(w, sorted) << "shape " << s;  // reordered, nothing lost
+    }
+  }
+}
+
 TEST(Percentile, InterpolatesBetweenOrderStatisticsLikeNumpy) {
   // numpy.percentile([4, 1, 3, 2], q) with the default linear method: 2.5, 1.15, 3.85, 1, 4.
   std::vector<double> v{4, 1, 3, 2};

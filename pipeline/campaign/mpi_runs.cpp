@@ -55,6 +55,17 @@ void send_text(const std::string& text, int to, int tag) {
   check(MPI_Send(text.data(), static_cast<int>(text.size()), MPI_CHAR, to, tag, MPI_COMM_WORLD), "send");
 }
 
+// Waits for a request without spinning: a blocking MPI call busy-polls, and
+// on a machine whose cores the runs fill, a rank waiting for work or for the
+// others to finish would take a core from a run.
+void wait_politely(MPI_Request& request) {
+  for (int done = 0;;) {
+    check(MPI_Test(&request, &done, MPI_STATUS_IGNORE), "test");
+    if (done) return;
+    std::this_thread::sleep_for(std::chrono::milliseconds(kPollMilliseconds));
+  }
+}
+
 std::string receive_text(const MPI_Status& probed) {
   int count = 0;
   MPI_Get_count(&probed, MPI_CHAR, &count);
@@ -70,6 +81,11 @@ MpiSession::MpiSession() {
   int initialised = 0;
   MPI_Initialized(&initialised);
   if (!initialised) {
+    // Open MPI's default messaging layer (UCX) spends some 0.2 s probing the
+    // network at start-up; a campaign's messages are a run index or outcome
+    // of a few hundred bytes, which the ob1 layer carries as well over shared
+    // memory or TCP. A user's own choice (mpirun --mca pml, or the variable) stands.
+    setenv("OMPI_MCA_pml", "ob1", 0);
     check(MPI_Init(nullptr, nullptr), "MPI_Init");
     owns_ = true;
   }
@@ -86,7 +102,9 @@ MpiSession::~MpiSession() {
 }
 
 int MpiSession::shared_exit_code(int code) {
-  MPI_Bcast(&code, 1, MPI_INT, 0, MPI_COMM_WORLD);
+  MPI_Request request;
+  check(MPI_Ibcast(&code, 1, MPI_INT, 0, MPI_COMM_WORLD, &request), "broadcast");
+  wait_politely(request);
   return code;
 }
 
@@ -104,7 +122,9 @@ std::vector<RunOutcome> MpiSession::reduce(const Manifest& manifest, const JobSe
       while (more && processes.has_free_slot()) {
         check(MPI_Send(nullptr, 0, MPI_INT, 0, kRequest, MPI_COMM_WORLD), "send");
         int index = kNoMoreRuns;
-        check(MPI_Recv(&index, 1, MPI_INT, 0, kAssign, MPI_COMM_WORLD, MPI_STATUS_IGNORE), "receive");
+        MPI_Request request;
+        check(MPI_Irecv(&index, 1, MPI_INT, 0, kAssign, MPI_COMM_WORLD, &request), "receive");
+        wait_politely(request);
         if (index == kNoMoreRuns) more = false;
         else processes.start(static_cast<std::size_t>(index));
       }

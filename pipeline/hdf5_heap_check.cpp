@@ -97,13 +97,16 @@ std::string walk(std::ifstream& in, std::uint64_t at, std::uint64_t file_size, s
   const std::uint64_t size = little_endian(h.data() + 8, lengths);
   // A collection the file cannot hold is refused by libhdf5 itself (read past the end).
   if (size < header || size > file_size - at) return "";
+  // The whole collection in one read: a seek and a read per object would be a
+  // system call each, and a summary reads many strings of the same collections.
+  std::vector<unsigned char> c(size);
+  in.seekg(static_cast<std::streamoff>(at));
+  if (!in.read(reinterpret_cast<char*>(c.data()), static_cast<std::streamsize>(size))) return "";
   std::uint64_t p = header;
-  std::vector<unsigned char> o(object_header);
   while (p < size) {
     if (p + object_header > size) break;  // the tail too small for an object: free space
-    in.seekg(static_cast<std::streamoff>(at + p));
-    if (!in.read(reinterpret_cast<char*>(o.data()), static_cast<std::streamsize>(object_header))) return "";
-    const std::uint64_t index = little_endian(o.data(), 2), object = little_endian(o.data() + 8, lengths);
+    const unsigned char* o = c.data() + p;
+    const std::uint64_t index = little_endian(o, 2), object = little_endian(o + 8, lengths);
     const std::string where = " at byte " + std::to_string(at + p);
     if (index == 0 && object == 0) return "its free-space entry" + where + " has size 0";
     // libhdf5 steps by the free space's size as stored, or by the padded size of an object;

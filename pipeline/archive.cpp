@@ -272,11 +272,14 @@ void read_group(hid_t file, const std::string& file_name, const std::string& gro
 
 }  // namespace
 
-RunStore read_archive(const fs::path& archive) {
+RunStore read_archive(const fs::path& archive) { return read_archive(archive, {}); }
+
+RunStore read_archive(const fs::path& archive, const std::vector<std::string>& groups) {
   h5::File file = h5::File::open_read(archive);
   RunStore store;
   for (const auto& top : h5::children(file.id(), "/")) {
     if (top == "provenance" || !h5::is_group(file.id(), top)) continue;
+    if (!groups.empty() && std::find(groups.begin(), groups.end(), top) == groups.end()) continue;
     // A top-level group may itself be a table (cycles).
     if (h5::has_attribute(file.id(), top, "columns")) read_table(file.id(), file.name(), top, store);
     else read_group(file.id(), file.name(), top, store, 1);

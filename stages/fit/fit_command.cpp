@@ -73,7 +73,8 @@ int refit_archives(const RefitRequest& request, std::ostream& out) {
   for (const auto& archive : request.archives) {
     settings = configured ? *configured : archive_settings(archive);
     if (request.bootstrap_resamples) settings.bootstrap_resamples = *request.bootstrap_resamples;
-    RunStore store = read_archive(archive);
+    // What the fit reads, and the fit/ tables it replaces.
+    RunStore store = read_archive(archive, {"run", "phase", "cycles", "events", "loads", "static_polar", "fit"});
     std::optional<StaticPolarPoints> polar = common ? common : polar_from_store(store, archive.filename().string());
     if (!polar)
       throw InputError(archive.string(), "holds no static polar (no /fit/static_polar or /static_polar/points): give "

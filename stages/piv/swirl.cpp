@@ -54,7 +54,6 @@ void central_row(const AxisWeights& wx, const AxisWeights& wy, const Frame& f, s
   const double ym = wy.minus[j], yc = wy.centre[j], yp = wy.plus[j];
   const double *xm = wx.minus.data(), *xc = wx.centre.data(), *xp = wx.plus.data();
   const std::size_t last = nx - 1;
-#pragma omp simd
   for (std::size_t i = 1; i < last; ++i) {
     const double ux = xm[i] * u[i - 1] + xc[i] * u[i] + xp[i] * u[i + 1];
     const double vx = xm[i] * v[i - 1] + xc[i] * v[i] + xp[i] * v[i + 1];

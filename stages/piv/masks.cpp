@@ -44,20 +44,15 @@ std::size_t mark_regions(const Grid& grid, const AirfoilPlacement& placement, do
 
 std::size_t mark_reflections(const Grid& grid, const Frame& f, double speed_m_s, std::vector<std::uint8_t>& mask) {
   const std::size_t nx = grid.nx(), ny = grid.ny();
-  auto usable = [&](std::size_t p) { return f.valid[p] && std::isfinite(f.u[p]) && std::isfinite(f.v[p]); };
+  std::vector<std::uint8_t> flow(mask.size());  // neighbours to compare with: measured, outside the section
+  for (std::size_t p = 0; p < mask.size(); ++p) flow[p] = mask[p] != 1 && measured(f, p);
   std::vector<std::size_t> glare;
   std::vector<double> nu, nv;
   for (std::size_t j = 0; j < ny; ++j)
     for (std::size_t i = 0; i < nx; ++i) {
       const std::size_t p = j * nx + i;
-      if (mask[p] != 2 || !usable(p) || std::hypot(f.u[p], f.v[p]) >= speed_m_s) continue;
-      nu.clear();
-      nv.clear();
-      for (std::size_t jj = j ? j - 1 : 0; jj <= std::min(j + 1, ny - 1); ++jj)
-        for (std::size_t ii = i ? i - 1 : 0; ii <= std::min(i + 1, nx - 1); ++ii) {
-          const std::size_t q = jj * nx + ii;
-          if (q != p && mask[q] != 1 && usable(q)) nu.push_back(f.u[q]), nv.push_back(f.v[q]);
-        }
+      if (mask[p] != 2 || !flow[p] || std::hypot(f.u[p], f.v[p]) >= speed_m_s) continue;
+      neighbours_kept(grid, f, j, i, flow, nu, nv);
       if (nu.empty()) continue;
       if (std::hypot(f.u[p] - median_in_place(nu), f.v[p] - median_in_place(nv)) > 2 * speed_m_s) glare.push_back(p);
     }

@@ -111,7 +111,7 @@ std::vector<piv::RegistrationFrame> registration_frames(const std::vector<Sample
   for (const SampleFrame& s : samples) {
     piv::RegistrationFrame r{s.alpha_deg, std::vector<std::uint8_t>(s.frame.u.size())};
     for (std::size_t p = 0; p < r.invalid.size(); ++p)
-      r.invalid[p] = !s.frame.valid[p] || !std::isfinite(s.frame.u[p]) || !std::isfinite(s.frame.v[p]);
+      r.invalid[p] = !piv::measured(s.frame, p);
     out.push_back(std::move(r));
   }
   return out;

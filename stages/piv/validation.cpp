@@ -23,13 +23,24 @@ double median_of(std::vector<double> values) { return median_in_place(values); }
 double normalised_median_residual(double value, std::span<const double> neighbours, double epsilon) {
   // The 8 neighbours of a grid point fit on the stack: no allocation per point.
   std::array<double, 8> buffer;
-  std::vector<double> large;
-  std::span<double> a = neighbours.size() <= buffer.size() ? std::span<double>(buffer.data(), neighbours.size())
-                                                           : std::span<double>(large = {neighbours.begin(), neighbours.end()});
+  std::vector<double> large(neighbours.size() > buffer.size() ? neighbours.size() : 0);
+  const std::span<double> a(large.empty() ? buffer.data() : large.data(), neighbours.size());
   std::copy(neighbours.begin(), neighbours.end(), a.begin());
   const double um = median_in_place(a);
   for (std::size_t k = 0; k < a.size(); ++k) a[k] = std::abs(neighbours[k] - um);
   return std::abs(value - um) / (median_in_place(a) + epsilon);
+}
+
+void neighbours_kept(const Grid& grid, const Frame& f, std::size_t j, std::size_t i,
+                     const std::vector<std::uint8_t>& keep, std::vector<double>& nu, std::vector<double>& nv) {
+  const std::size_t nx = grid.nx(), ny = grid.ny();
+  nu.clear();
+  nv.clear();
+  for (std::size_t jj = j ? j - 1 : 0; jj <= std::min(j + 1, ny - 1); ++jj)
+    for (std::size_t ii = i ? i - 1 : 0; ii <= std::min(i + 1, nx - 1); ++ii) {
+      const std::size_t q = jj * nx + ii;
+      if ((jj != j || ii != i) && keep[q]) nu.push_back(f.u[q]), nv.push_back(f.v[q]);
+    }
 }
 
 ValidationCounts validate_frame(const Grid& grid, Frame& f, const std::vector<std::uint8_t>& masked,
@@ -43,19 +54,12 @@ ValidationCounts validate_frame(const Grid& grid, Frame& f, const std::vector<st
     const bool out = !masked.empty() && masked[p];
     if (out) continue;
     ++c.vectors;
-    usable[p] = f.valid[p] && std::isfinite(f.u[p]) && std::isfinite(f.v[p]);
+    usable[p] = measured(f, p);
     if (!usable[p]) ++c.missing;
   }
-  // Neighbours of p that satisfy `keep`, one component at a time.
   std::vector<double> nu, nv;
   auto gather = [&](std::size_t j, std::size_t i, const std::vector<std::uint8_t>& keep) {
-    nu.clear();
-    nv.clear();
-    for (std::size_t jj = j ? j - 1 : 0; jj <= std::min(j + 1, ny - 1); ++jj)
-      for (std::size_t ii = i ? i - 1 : 0; ii <= std::min(i + 1, nx - 1); ++ii) {
-        const std::size_t q = jj * nx + ii;
-        if ((jj != j || ii != i) && keep[q]) nu.push_back(f.u[q]), nv.push_back(f.v[q]);
-      }
+    neighbours_kept(grid, f, j, i, keep, nu, nv);
   };
   // The test runs on the field as measured; replacement comes after, so one
   // outlier does not bias the test of its neighbours' neighbours.
@@ -112,7 +116,7 @@ ValidationCounts validate_frame(const Grid& grid, Frame& f, const std::vector<st
 
 double random_error(const Grid& grid, const Frame& f) {
   const std::size_t nx = grid.nx(), ny = grid.ny();
-  auto usable = [&](std::size_t p) { return f.valid[p] && std::isfinite(f.u[p]) && std::isfinite(f.v[p]); };
+  auto usable = [&](std::size_t p) { return measured(f, p); };
   std::vector<double> r;
   for (std::size_t j = 1; j + 1 < ny; ++j)
     for (std::size_t i = 1; i + 1 < nx; ++i) {

@@ -3,6 +3,7 @@
 // Scarano 2005, Exp. Fluids 39:1096-1100): r0* = |U0 - Um| / (rm + eps) over
 // the valid 3x3 neighbours; an outlier in either component is replaced by the
 // local median of its valid neighbours.
+#include <cmath>
 #include <cstdint>
 #include <span>
 #include <vector>
@@ -22,6 +23,14 @@ struct MedianTestOptions {
 // reorders its values, the second a copy.
 double median_in_place(std::span<double> values);
 double median_of(std::vector<double> values);
+// A vector the file holds: marked valid, both components finite.
+inline bool measured(const Frame& f, std::size_t p) {
+  return f.valid[p] && std::isfinite(f.u[p]) && std::isfinite(f.v[p]);
+}
+// The 3x3 neighbours of point (j, i) for which keep is set, one component
+// at a time (nu, nv cleared first).
+void neighbours_kept(const Grid& grid, const Frame& frame, std::size_t j, std::size_t i,
+                     const std::vector<std::uint8_t>& keep, std::vector<double>& nu, std::vector<double>& nv);
 // r0* of one value against its neighbours (at least one).
 double normalised_median_residual(double value, std::span<const double> neighbours, double epsilon);
 
@@ -48,7 +57,8 @@ double random_error(const Grid& grid, const Frame& frame);
 
 // Tests and repairs a frame in place. `masked` (size of the grid, may be
 // empty) marks points outside the flow (inside the airfoil): they are emptied
-// and never used; so are the patches of bad vectors (patch_min_cells). `replaced` (out, resized) marks vectors that were filled.
+// and never used; so are the patches of bad vectors (patch_min_cells).
+// `replaced` (out, resized) marks vectors that were filled.
 ValidationCounts validate_frame(const Grid& grid, Frame& frame, const std::vector<std::uint8_t>& masked,
                                 const MedianTestOptions& options, std::vector<std::uint8_t>& replaced);
 

@@ -183,7 +183,29 @@ fs::path write_archive(const RunStore& store, const Provenance& provenance, cons
 
 namespace {
 
-void read_group(hid_t file, const std::string& file_name, const std::string& group, RunStore& store, int depth);
+// Which archive paths a reader asked for: a path named, one under a name, or
+// (read only in part) a group on the way to one. Nothing named: everything.
+class Selection {
+ public:
+  enum Reach { kNone, kPart, kWhole };
+  explicit Selection(const std::vector<std::string>& names) : names_(names) {}
+  Reach of(const std::string& path) const {
+    if (names_.empty()) return kWhole;
+    Reach r = kNone;
+    for (const auto& n : names_) {
+      if (path == n || (path.size() > n.size() && path.compare(0, n.size(), n) == 0 && path[n.size()] == '/'))
+        return kWhole;
+      if (n.size() > path.size() && n.compare(0, path.size(), path) == 0 && n[path.size()] == '/') r = kPart;
+    }
+    return r;
+  }
+
+ private:
+  const std::vector<std::string>& names_;
+};
+
+void read_group(hid_t file, const std::string& file_name, const std::string& group, RunStore& store, int depth,
+                const Selection& selection);
 
 // The units attribute of a dataset, "" when absent or not text.
 std::string units_of(hid_t file, const std::string& path) {
@@ -209,7 +231,12 @@ void read_table(hid_t file, const std::string& file_name, const std::string& pat
     else if (di.type_class == H5T_INTEGER) t.add({name, u, h5::read_integers(file, cpath, file_name)});
     else t.add({name, u, h5::read_numbers(file, cpath, file_name)});
   }
-  store.put(path, std::move(t));
+  Attributes extra;  // what the table's writer said of it (its CSV name, its notes)
+  for (const auto& a : h5::attribute_names(file, path)) {
+    if (a == "columns") continue;
+    if (auto v = h5::read_attribute(file, path, a)) extra[a] = *v;
+  }
+  store.put(path, std::move(t), std::move(extra));
 }
 
 void read_dataset(hid_t file, const std::string& file_name, const std::string& path, RunStore& store) {
@@ -246,11 +273,13 @@ void read_dataset(hid_t file, const std::string& file_name, const std::string& p
 // Deeper than any layout we write; a deeper file is damaged or holds a link cycle.
 constexpr int kMaxGroupDepth = 16;
 
-void read_group(hid_t file, const std::string& file_name, const std::string& group, RunStore& store, int depth) {
+void read_group(hid_t file, const std::string& file_name, const std::string& group, RunStore& store, int depth,
+                const Selection& selection) {
   if (depth > kMaxGroupDepth)
     throw InputError(file_name, "/" + group + " is nested deeper than " + std::to_string(kMaxGroupDepth) +
                                     " groups (a link cycle?)");
-  for (const auto& a : h5::attribute_names(file, group)) {
+  const bool whole = selection.of(group) == Selection::kWhole;
+  for (const auto& a : whole ? h5::attribute_names(file, group) : std::vector<std::string>{}) {
     auto v = h5::read_attribute(file, group, a);
     if (!v) continue;
     if (const auto* d = std::get_if<double>(&*v)) store.put(group + "/" + a, Scalar{*d, ""});
@@ -259,12 +288,15 @@ void read_group(hid_t file, const std::string& file_name, const std::string& gro
   }
   for (const auto& child : h5::children(file, group)) {
     std::string path = group + "/" + child;
+    const Selection::Reach reach = whole ? Selection::kWhole : selection.of(path);
+    if (reach == Selection::kNone) continue;
     if (h5::is_group(file, path)) {
-      if (h5::has_attribute(file, path, "columns"))
-        read_table(file, file_name, path, store);
-      else
-        read_group(file, file_name, path, store, depth + 1);
-    } else {
+      if (h5::has_attribute(file, path, "columns")) {
+        if (reach == Selection::kWhole) read_table(file, file_name, path, store);
+      } else {
+        read_group(file, file_name, path, store, depth + 1, selection);
+      }
+    } else if (reach == Selection::kWhole) {
       read_dataset(file, file_name, path, store);
     }
   }
@@ -277,12 +309,15 @@ RunStore read_archive(const fs::path& archive) { return read_archive(archive, {}
 RunStore read_archive(const fs::path& archive, const std::vector<std::string>& groups) {
   h5::File file = h5::File::open_read(archive);
   RunStore store;
+  const Selection selection(groups);
   for (const auto& top : h5::children(file.id(), "/")) {
-    if (top == "provenance" || !h5::is_group(file.id(), top)) continue;
-    if (!groups.empty() && std::find(groups.begin(), groups.end(), top) == groups.end()) continue;
+    if (top == "provenance" || selection.of(top) == Selection::kNone || !h5::is_group(file.id(), top)) continue;
     // A top-level group may itself be a table (cycles).
-    if (h5::has_attribute(file.id(), top, "columns")) read_table(file.id(), file.name(), top, store);
-    else read_group(file.id(), file.name(), top, store, 1);
+    if (h5::has_attribute(file.id(), top, "columns")) {
+      if (selection.of(top) == Selection::kWhole) read_table(file.id(), file.name(), top, store);
+    } else {
+      read_group(file.id(), file.name(), top, store, 1, selection);
+    }
   }
   return store;
 }

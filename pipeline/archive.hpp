@@ -35,8 +35,10 @@ std::filesystem::path write_archive(const RunStore& store, const Provenance& pro
 Provenance read_provenance(const std::filesystem::path& archive);
 // Loads every archived dataset and table back into a store.
 RunStore read_archive(const std::filesystem::path& archive);
-// Only the named top-level groups (or tables): a reader that needs a few need
-// not read a run's whole pressure and PIV record.
+// Only the named paths: groups, tables or datasets ("run", "phase/cn"), each
+// with all it holds; a group on the way to a named path is read only in part
+// (not its own attributes). A reader that needs a few need not read a run's
+// whole pressure and PIV record.
 RunStore read_archive(const std::filesystem::path& archive, const std::vector<std::string>& groups);
 
 }  // namespace stallscope

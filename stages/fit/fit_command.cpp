@@ -73,8 +73,14 @@ int refit_archives(const RefitRequest& request, std::ostream& out) {
   for (const auto& archive : request.archives) {
     settings = configured ? *configured : archive_settings(archive);
     if (request.bootstrap_resamples) settings.bootstrap_resamples = *request.bootstrap_resamples;
-    // What the fit reads, and the fit/ tables it replaces.
-    RunStore store = read_archive(archive, {"run", "phase", "cycles", "events", "loads", "static_polar", "fit"});
+    // What the fit reads: the stored fit, or for a new one the polar the
+    // reduction used and the loads it puts at each cycle's onset (fit/onset).
+    std::vector<std::string> wanted = {"run",      "phase/bin_deg",       "phase/alpha_deg",  "phase/cn",
+                                       "phase/per_cycle/alpha_deg", "phase/per_cycle/cn", "cycles",
+                                       "events/per_cycle",          "static_polar/points"};
+    if (request.stored_run_fits) wanted.push_back("fit");
+    else wanted.insert(wanted.end(), {"fit/static_polar", "loads"});
+    RunStore store = read_archive(archive, wanted);
     std::optional<StaticPolarPoints> polar = common ? common : polar_from_store(store, archive.filename().string());
     if (!polar)
       throw InputError(archive.string(), "holds no static polar (no /fit/static_polar or /static_polar/points): give "
@@ -86,8 +92,13 @@ int refit_archives(const RefitRequest& request, std::ostream& out) {
       throw InputError(request.static_polar ? "--static-polar" : archive.string(), polar->source + ": " + e.what());
     }
     RunLoops loops = read_run_loops(store, settings);
-    RunFit fit = fit_run(loops, curve, *polar, settings, request.threads);
-    put_fit(store, loops, curve, *polar, fit, settings);
+    RunFit fit;
+    if (request.stored_run_fits) {
+      fit = stored_run_fit(store, loops, archive.string());
+    } else {
+      fit = fit_run(loops, curve, *polar, settings, request.threads);
+      put_fit(store, loops, curve, *polar, fit, settings);
+    }
     write_tables(store, request.output_directory / loops.run);
     out << fmt::format("{}: ", loops.run);
     if (fit.main.fitted) {
@@ -133,6 +144,7 @@ std::vector<std::filesystem::path> fit_campaign(const std::vector<std::filesyste
   if (request.archives.size() < 2) return {};
   request.output_directory = folder;
   request.threads = threads;
+  request.stored_run_fits = true;
   refit_archives(request, out);
   return {folder / "campaign_fit.csv", folder / "campaign_trend.csv"};
 }

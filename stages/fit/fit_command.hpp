@@ -20,6 +20,9 @@ struct RefitRequest {
   std::optional<std::filesystem::path> static_polar, config;
   std::optional<std::int64_t> bootstrap_resamples;
   int threads = 1;
+  // Take each run's own fit as its reduction stored it, not a new one (the
+  // campaign, whose runs were just fitted with their own settings).
+  bool stored_run_fits = false;
 };
 
 // Returns the exit code; InputError propagates (exit 2 in main).
@@ -28,8 +31,9 @@ int refit_archives(const RefitRequest& request, std::ostream& out);
 // Without --config, each archive is refitted with the [fit] options its
 // reduction used (from its provenance).
 
-// The campaign-wide fit at the end of `stallscope campaign`: the archives that
-// hold a fit (two or more) refitted into folder; returns the campaign files.
+// The campaign-wide fit at the end of `stallscope campaign`: over the archives
+// that hold a fit (two or more), from their stored fits, into folder; returns
+// the campaign files.
 std::vector<std::filesystem::path> fit_campaign(const std::vector<std::filesystem::path>& archives,
                                                 const std::filesystem::path& folder, int threads, std::ostream& out);
 

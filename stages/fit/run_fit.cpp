@@ -289,6 +289,56 @@ RunFit fit_run(const RunLoops& r, const StaticSeparation& curve, const StaticPol
   return out;
 }
 
+RunFit stored_run_fit(const RunStore& s, const RunLoops& loops, const std::string& where) {
+  if (!s.contains("fit/summary") || !std::holds_alternative<Table>(s.entry("fit/summary").value))
+    throw InputError(where, "holds no fit/summary table: the run was reduced without a [fit] section");
+  const Entry& e = s.entry("fit/summary");
+  const Table& t = std::get<Table>(e.value);
+  const auto* estimate = t.find("estimate");
+  const auto* texts = estimate ? std::get_if<std::vector<std::string>>(&estimate->data) : nullptr;
+  const auto row = texts ? std::find(texts->begin(), texts->end(), "phase_average") - texts->begin() : 0;
+  if (!texts || row == static_cast<std::ptrdiff_t>(texts->size()))
+    throw InputError(where, "fit/summary has no phase_average row in its estimate column");
+  const auto i = static_cast<std::size_t>(row);
+  auto number = [&](const char* name) {
+    const Column* c = t.find(name);
+    const auto* v = c ? std::get_if<std::vector<double>>(&c->data) : nullptr;
+    if (!v) throw InputError(where, fmt::format("fit/summary has no numeric column {}", name));
+    return (*v)[i];
+  };
+  auto text = [&](const char* name) {
+    const Column* c = t.find(name);
+    const auto* v = c ? std::get_if<std::vector<std::string>>(&c->data) : nullptr;
+    if (!v) throw InputError(where, fmt::format("fit/summary has no text column {}", name));
+    return (*v)[i];
+  };
+  RunFit out;
+  LoopFit& m = out.main;
+  m.fitted = text("status") == "fitted";
+  m.reason = text("reason");
+  m.tau1 = number("tau1_conv");
+  m.tau2 = number("tau2_conv");
+  m.rms_residual = number("rms_residual");
+  const Column* points = t.find("points");
+  if (const auto* v = points ? std::get_if<std::vector<std::int64_t>>(&points->data) : nullptr) m.points = (*v)[i];
+  BootstrapFit& b = out.bootstrap;
+  b.tau1_ci[0] = number("tau1_ci95_lo_conv"), b.tau1_ci[1] = number("tau1_ci95_hi_conv");
+  b.tau2_ci[0] = number("tau2_ci95_lo_conv"), b.tau2_ci[1] = number("tau2_ci95_hi_conv");
+  b.correlation = number("tau_correlation");
+  const auto lift = e.attributes.find("vortex_lift");
+  if (lift != e.attributes.end() && std::get_if<std::string>(&lift->second) &&
+      std::get<std::string>(lift->second) == "fitted") {
+    m.vortex_lift = true;
+    m.t_v = number("t_v_conv");
+    m.t_vl = number("t_vl_conv");
+    b.t_v_ci[0] = number("t_v_ci95_lo_conv"), b.t_v_ci[1] = number("t_v_ci95_hi_conv");
+    b.t_vl_ci[0] = number("t_vl_ci95_lo_conv"), b.t_vl_ci[1] = number("t_vl_ci95_hi_conv");
+    // As fit_loop places the term: the loop's onset phase in convective times.
+    m.vortex_onset_conv = loops.onset_deg / 360.0 * (loops.period_s / loops.flow.convective_s());
+  }
+  return out;
+}
+
 void put_fit(RunStore& s, const RunLoops& r, const StaticSeparation& curve, const StaticPolarPoints& polar,
              const RunFit& fit, const FitSettings& o) {
   const double conv = r.flow.convective_s();

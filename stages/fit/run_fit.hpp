@@ -73,6 +73,13 @@ struct RunFit {
 RunFit fit_run(const RunLoops& loops, const StaticSeparation& curve, const StaticPolarPoints& polar,
                const FitSettings& settings, int threads = 1);
 
+// The phase-average fit and its bootstrap intervals as the run's reduction
+// stored them (fit/summary): what a campaign-wide fit takes from each run, so
+// a campaign does not redo fits its runs have made. Not the per-cycle fits nor
+// the loop curves. Throws InputError naming `where` if fit/summary is missing
+// or lacks a column.
+RunFit stored_run_fit(const RunStore& store, const RunLoops& loops, const std::string& where);
+
 // The fit/* entries: fit/summary (fit_summary.csv), fit/loop (fit_loop.csv),
 // fit/static_separation (fit_static_separation.csv), fit/static_polar (the
 // points used, so a refit needs nothing else), fit/bootstrap, fit/onset

@@ -149,6 +149,14 @@ TEST(FitOnSynthRun, RecoversTheGeneratorsConstantsWithinItsWindow) {
   ASSERT_EQ(files.size(), 2u) << lines.str();
   for (const auto& f : files) EXPECT_TRUE(std::filesystem::exists(f)) << f;
   EXPECT_TRUE(fit::fit_campaign({dir / "out" / "fit-synth.h5"}, dir / "one", 1, lines).empty());
+  // It takes each run's fit as the reduction stored it: a new fit with the
+  // archive's own options (below) gives the same files, to the byte.
+  r = run_stallscope("fit " + archive + " " + archive + " -o " + shell_quote((dir / "refit_own").string()));
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  for (const char* file : {"campaign_fit.csv", "campaign_trend.csv", "fit-synth/fit_summary.csv", "fit-synth/fit_loop.csv"})
+    EXPECT_EQ(stallscope::testing::read_text(dir / "campaign_fit" / file),
+              stallscope::testing::read_text(dir / "refit_own" / file))
+        << file;
 
   // Without --config the archive's own [fit] options (its provenance) are used.
   r = run_stallscope("fit " + archive + " -o " + shell_quote((dir / "refit_default").string()) + " --bootstrap 0");
@@ -211,10 +219,17 @@ TEST(FitOnSynthRun, TheVortexLiftTermFollowsTheOvershootAndKeepsTheConstants) {
   // `stallscope fit` repeats the archive's own vortex-lift fit; a bad bound in
   // --config is one line naming the file and key, exit 2, and nothing written.
   const std::string archive = shell_quote((dir / "vortex" / "fit-synth.h5").string());
-  r = run_stallscope("fit " + archive + " -o " + shell_quote((dir / "refit").string()));
+  r = run_stallscope("fit " + archive + " " + archive + " -o " + shell_quote((dir / "refit").string()));
   ASSERT_EQ(r.exit_code, 0) << r.err;
   EXPECT_NE(r.out.find("vortex lift: T_v = "), std::string::npos) << r.out;
   EXPECT_EQ(r.out.find("not fitted"), std::string::npos) << r.out;
+  // The campaign's shared fit, from the stored vortex-lift fits, is the same to the byte.
+  std::ostringstream lines;
+  fit::fit_campaign({dir / "vortex" / "fit-synth.h5", dir / "vortex" / "fit-synth.h5"}, dir / "campaign_fit", 1, lines);
+  for (const char* file : {"campaign_fit.csv", "campaign_trend.csv", "fit-synth/fit_summary.csv"})
+    EXPECT_EQ(stallscope::testing::read_text(dir / "campaign_fit" / file),
+              stallscope::testing::read_text(dir / "refit" / file))
+        << file;
   dir.write("bad.toml", "[fit]\nvortex_lift = true\nt_vl_bounds_conv = [4.0, 2.0]\n");
   r = run_stallscope("fit " + archive + " --config " + shell_quote((dir / "bad.toml").string()) + " -o " +
                      shell_quote((dir / "bad").string()));

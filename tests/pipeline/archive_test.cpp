@@ -72,6 +72,25 @@ TEST(Archive, RoundTripsEveryValueKindAndProvenance) {
   EXPECT_FALSE(p.git_commit.empty());
 }
 
+TEST(Archive, ReadsOnlyThePathsAskedFor) {
+  ScratchDir dir;
+  auto raw = dir.write("daq.csv", "time_s,a\n0,1\n");
+  const fs::path archive = write_archive(sample_store(), sample_provenance(raw), {dir / "out", "r042", false});
+  const RunStore some = read_archive(archive, {"loads/cn", "events/per_cycle"});
+  EXPECT_TRUE(some.contains("loads/cn"));
+  EXPECT_EQ(std::get<double>(some.entry("loads/cn").attributes.at("moment_ref_x_over_c")), 0.25);
+  EXPECT_TRUE(some.contains("events/per_cycle"));
+  EXPECT_EQ(some.get<Table>("events/per_cycle").rows(), 2u);
+  // Neither a sibling, nor another group, nor the attributes of the group on the way.
+  EXPECT_FALSE(some.contains("loads/time_s"));
+  EXPECT_FALSE(some.contains("pressure/cp"));
+  EXPECT_FALSE(some.contains("run/chord_m"));
+  const RunStore run = read_archive(archive, {"run"});
+  EXPECT_DOUBLE_EQ(run.get<Scalar>("run/chord_m").value, 0.3);
+  EXPECT_EQ(run.keys().size(), 2u);
+  EXPECT_EQ(read_archive(archive, {}).keys(), read_archive(archive).keys());
+}
+
 TEST(Archive, WritesTheCsvExportsBesideTheArchive) {
   ScratchDir dir;
   auto raw = dir.write("daq.csv", "time_s,a\n0,1\n");

@@ -1,5 +1,7 @@
 #include "stages/numerics/statistics.hpp"
 
+#include "stages/numerics/bracket_gather.hpp"
+
 #include <unsupported/Eigen/SpecialFunctions>
 
 #include <algorithm>
@@ -99,7 +101,57 @@ void select_kth(double* a, std::size_t n, std::size_t k) {
   }
 }
 
+// The middle one or two of the finite values of x (or of their deviations
+// from *centre), counted n, averaged: over a large x, the values between two
+// sampled values that bracket the middle are gathered in one read and only
+// they are ordered.
+double middle_of(std::span<const double> x, const double* centre, std::vector<double>& band,
+                 std::size_t* count = nullptr) {
+  auto middle = [](std::span<double> a, std::size_t below, std::size_t n) {
+    const std::size_t k = (n - 1) / 2;  // the lower middle; n even: with the next
+    const auto [lower, upper] = order_pair(a, k - below);
+    return n % 2 ? lower : 0.5 * (lower + upper);
+  };
+  band.resize(x.size() + 4);
+  constexpr std::size_t kSample = 512, kMargin = 24;  // about 2 sigma of the sample rank
+  if (x.size() >= 4096) {
+    std::array<double, kSample> s;
+    std::size_t m = 0;
+    for (std::size_t j = 0; j < kSample; ++j) {
+      const double xj = x[j * x.size() / kSample], v = centre ? std::abs(xj - *centre) : xj;
+      if (std::isfinite(v)) s[m++] = v;
+    }
+    if (m > 4 * kMargin) {
+      const std::size_t r_lo = m / 2 - kMargin, r_hi = m / 2 + kMargin;
+      select_kth(s.data(), m, r_lo);
+      const double p_lo = s[r_lo];
+      select_kth(s.data() + r_lo, m - r_lo, r_hi - r_lo);
+      const double p_hi = s[r_hi];
+      const BracketCount c = gather_bracket(x, centre, p_lo, p_hi, band.data());
+      if (count) *count = c.finite;
+      const std::size_t n = c.finite, k = n ? (n - 1) / 2 : 0, last = n % 2 ? k : k + 1;
+      if (n && c.below <= k && last < c.below + c.between)
+        return middle(std::span(band.data(), c.between), c.below, n);
+      // The sample missed the middle (rare): order every finite value.
+    }
+  }
+  const double largest = std::numeric_limits<double>::max();
+  const BracketCount c = gather_bracket(x, centre, -largest, largest, band.data());
+  if (count) *count = c.finite;
+  return c.finite ? middle(std::span(band.data(), c.finite), 0, c.finite) : std::numeric_limits<double>::quiet_NaN();
+}
+
 }  // namespace
+
+MedianSpread median_and_mad(std::span<const double> x) {
+  std::vector<double> band;
+  MedianSpread out{0, 0, 0};
+  out.median = middle_of(x, nullptr, band, &out.n);
+  if (!out.n) return {std::numeric_limits<double>::quiet_NaN(), std::numeric_limits<double>::quiet_NaN(), 0};
+  const double m = out.median;
+  out.mad = middle_of(x, &m, band);
+  return out;
+}
 
 double percentile(std::span<double> x, double p) {
   if (x.empty()) throw std::invalid_argument("percentile of an empty set");

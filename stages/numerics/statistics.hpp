@@ -20,6 +20,17 @@ double percentile(std::span<double> x, double p);
 // Reorders x; values must be comparable (no NaN).
 std::pair<double, double> order_pair(std::span<double> x, std::size_t k);
 
+// The median of the finite values of x and their median absolute deviation
+// about it (an even count averages the middle two, in both), exactly as
+// sorting would give them; x is left as it is. NaN (n = 0) when none is finite.
+// Over a large set each is found in one read of x: two values from a sample
+// bracket it, and only the values between them are ordered.
+struct MedianSpread {
+  double median, mad;
+  std::size_t n;  // finite values
+};
+MedianSpread median_and_mad(std::span<const double> x);
+
 // Quantile of Student's t distribution with nu > 0 degrees of freedom, from
 // the regularised incomplete beta function (CDF inverted by bisection).
 double student_t_quantile(double p, double nu);

@@ -2,23 +2,19 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstring>
+#include <limits>
 #include <numeric>
 #include <opencv2/imgproc.hpp>
 
-#include "stages/piv/validation.hpp"
+#include "stages/numerics/statistics.hpp"
 
 namespace stallscope::piv {
 
 double noise_swirl(const SwirlField& field) {
-  std::vector<double> w;
-  w.reserve(field.vorticity.size());
-  for (double x : field.vorticity)
-    if (std::isfinite(x)) w.push_back(x);
-  if (w.empty()) return 0.0;
-  const double m = median_in_place(w);
-  for (double& x : w) x = std::abs(x - m);
+  const numerics::MedianSpread s = numerics::median_and_mad(field.vorticity);
   // 1.4826 MAD is the standard deviation of Gaussian noise.
-  return 0.5 * 1.4826 * median_in_place(w);
+  return s.n ? 0.5 * 1.4826 * s.mad : 0.0;
 }
 
 int label_regions(const std::vector<std::uint8_t>& mask, std::size_t ny, std::size_t nx, std::vector<int>& labels) {
@@ -32,15 +28,19 @@ int label_regions(const std::vector<std::uint8_t>& mask, std::size_t ny, std::si
 
 void label_regions_in_caller_threads() { cv::setNumThreads(1); }
 
+namespace {
+
+// Half the distance between the neighbours on each side (half a spacing at an edge).
+std::vector<double> axis_widths(const std::vector<double>& s) {
+  std::vector<double> w(s.size());
+  for (std::size_t k = 0; k < s.size(); ++k) w[k] = 0.5 * std::abs(s[std::min(k + 1, s.size() - 1)] - s[k > 0 ? k - 1 : 0]);
+  return w;
+}
+
+}  // namespace
+
 std::vector<double> cell_areas(const Grid& g) {
-  // Half the distance between the neighbours on each side (half a spacing at an edge).
-  auto widths = [](const std::vector<double>& s) {
-    std::vector<double> w(s.size());
-    for (std::size_t k = 0; k < s.size(); ++k)
-      w[k] = 0.5 * std::abs(s[std::min(k + 1, s.size() - 1)] - s[k > 0 ? k - 1 : 0]);
-    return w;
-  };
-  const auto wx = widths(g.x_m), wy = widths(g.y_m);
+  const auto wx = axis_widths(g.x_m), wy = axis_widths(g.y_m);
   std::vector<double> a(g.size());
   for (std::size_t j = 0; j < g.ny(); ++j)
     for (std::size_t i = 0; i < g.nx(); ++i) a[j * g.nx() + i] = wx[i] * wy[j];
@@ -48,6 +48,23 @@ std::vector<double> cell_areas(const Grid& g) {
 }
 
 namespace {
+
+// Cells whose swirl is above the threshold, by the sign of their vorticity
+// (NaN compares false; an infinite swirl is no measurement). Built for AVX2
+// too, the one to run chosen at load time.
+#if defined(__x86_64__) && defined(__GNUC__) && !defined(__SANITIZE_ADDRESS__) && \
+    !(defined(__has_feature) && __has_feature(address_sanitizer))
+__attribute__((target_clones("avx2", "default")))
+#endif
+void mark_strong(const double* vorticity, const double* swirl, std::size_t n, double threshold,
+                 std::uint8_t* positive, std::uint8_t* negative) {
+  constexpr double kLargest = std::numeric_limits<double>::max();
+  for (std::size_t p = 0; p < n; ++p) {
+    const bool over = (swirl[p] > threshold) & (swirl[p] <= kLargest);
+    positive[p] = over & (vorticity[p] > 0);
+    negative[p] = over & (vorticity[p] < 0);
+  }
+}
 
 struct UnionFind {
   std::vector<int> parent;
@@ -70,23 +87,46 @@ std::vector<Detection> detect_vortices(const Grid& grid, const SwirlField& field
   const std::size_t nx = grid.nx(), ny = grid.ny(), n = grid.size();
   const double threshold = std::max(o.min_threshold, o.noise_factor * noise_swirl(field));
   if (threshold_out) *threshold_out = threshold;
-  const std::vector<double> area = cell_areas(grid);
+  // Cell areas as cell_areas gives them, from the widths along each axis.
+  const std::vector<double> width_x = axis_widths(grid.x_m), width_y = axis_widths(grid.y_m);
+  auto area = [&](std::size_t p) { return width_x[p % nx] * width_y[p / nx]; };
   auto above = [&](std::size_t p, double level, int sign) {
     const double w = field.vorticity[p], s = field.swirl[p];
     return std::isfinite(s) && s > level && (sign > 0 ? w > 0 : w < 0);
   };
+  // Both signs' masks in one branch-free pass (NaN compares false, an infinite
+  // swirl is no measurement), and the cells above the threshold: the few a
+  // region can hold.
+  std::vector<std::uint8_t> positive(n), negative(n);
+  mark_strong(field.vorticity.data(), field.swirl.data(), n, threshold, positive.data(), negative.data());
+  std::vector<std::size_t> strong;
+  for (std::size_t p = 0; p < n; ++p) {
+    if (p + 8 <= n) {  // most of a field is below the threshold: eight cells a look
+      std::uint64_t a, b;
+      std::memcpy(&a, positive.data() + p, 8);
+      std::memcpy(&b, negative.data() + p, 8);
+      if ((a | b) == 0) {
+        p += 7;
+        continue;
+      }
+    }
+    if (positive[p] | negative[p]) strong.push_back(p);
+  }
+  const std::size_t strong_count = strong.size();
   std::vector<Detection> out;
+  std::vector<std::uint8_t> in(n, 0);  // cells of the region grown; cleared after each
   for (int sign : {+1, -1}) {
-    std::vector<std::uint8_t> mask(n);
-    for (std::size_t p = 0; p < n; ++p) mask[p] = above(p, threshold, sign) ? 1 : 0;
+    const std::vector<std::uint8_t>& mask = sign > 0 ? positive : negative;
     std::vector<int> labels;
     const int count = label_regions(mask, ny, nx, labels);
     if (count == 0) continue;
     // Cells and bounding boxes of each region, then join regions that lie
     // within the clustering gap of each other.
     std::vector<std::vector<std::size_t>> cells(static_cast<std::size_t>(count) + 1);
-    for (std::size_t p = 0; p < n; ++p)
-      if (labels[p]) cells[static_cast<std::size_t>(labels[p])].push_back(p);
+    for (std::size_t k = 0; k < strong_count; ++k) {
+      const std::size_t p = strong[k];
+      if (const int a = labels[p]) cells[static_cast<std::size_t>(a)].push_back(p);
+    }
     UnionFind uf(count + 1);
     const long reach = o.cluster_gap_cells + 1;  // Chebyshev distance between cells that merge
     // Only a region's edge needs looking from: from a cell whose 8 neighbours
@@ -135,16 +175,15 @@ std::vector<Detection> detect_vortices(const Grid& grid, const SwirlField& field
       d.cells = c.size();
       d.regions = members[k];
       double wsum = 0, wx = 0, wy = 0;
-      std::vector<std::uint8_t> in(n, 0);
       for (const std::size_t p : c) {
         in[p] = 1;
         const double s = field.swirl[p];
         const double x = grid.x_m[p % nx], y = grid.y_m[p / nx];
         wsum += s, wx += s * x, wy += s * y;
-        d.circulation += field.vorticity[p] * area[p];
-        if (s > o.strict_factor * threshold) d.circulation_strict += field.vorticity[p] * area[p];
+        d.circulation += field.vorticity[p] * area(p);
+        if (s > o.strict_factor * threshold) d.circulation_strict += field.vorticity[p] * area(p);
         d.peak_swirl = std::max(d.peak_swirl, s);
-        d.area_m2 += area[p];
+        d.area_m2 += area(p);
         if (!replaced.empty() && replaced[p]) ++d.replaced_cells;
       }
       d.x_m = wx / wsum;
@@ -158,7 +197,7 @@ std::vector<Detection> detect_vortices(const Grid& grid, const SwirlField& field
       d.centre_i = nearest(grid.x_m, d.x_m);
       d.centre_j = nearest(grid.y_m, d.y_m);
       // The looser boundary: grow the region through same-sign cells above it.
-      std::vector<std::size_t> stack(c.begin(), c.end());
+      std::vector<std::size_t> stack(c.begin(), c.end()), grown;
       d.circulation_loose = d.circulation;
       const double loose = o.loose_factor * threshold;
       while (!stack.empty()) {
@@ -170,10 +209,13 @@ std::vector<Detection> detect_vortices(const Grid& grid, const SwirlField& field
             const std::size_t q = qj * nx + qi;
             if (in[q] || !above(q, loose, sign)) continue;
             in[q] = 1;
-            d.circulation_loose += field.vorticity[q] * area[q];
+            d.circulation_loose += field.vorticity[q] * area(q);
             stack.push_back(q);
+            grown.push_back(q);
           }
       }
+      for (const std::size_t p : c) in[p] = 0;
+      for (const std::size_t p : grown) in[p] = 0;
       out.push_back(d);
     }
   }

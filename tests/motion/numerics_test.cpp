@@ -4,10 +4,13 @@
 #include <array>
 #include <cmath>
 #include <fstream>
+#include <limits>
 #include <random>
+#include <sstream>
 #include <vector>
 
 #include "stages/numerics/binned_statistics.hpp"
+#include "stages/numerics/bracket_gather.hpp"
 #include "stages/numerics/plateaus.hpp"
 #include "stages/numerics/resample.hpp"
 #include "stages/numerics/spectrum.hpp"
@@ -167,6 +170,122 @@ TEST(OrderPair, BracketsALargeSetExactlyWhateverItsShape) {
       EXPECT_EQ(w, sorted) << "shape " << s;  // reordered, nothing lost
     }
   }
+}
+
+// The median and MAD of a full sort, of the finite values only.
+std::pair<double, double> sorted_median_and_mad(const std::vector<double>& x) {
+  std::vector<double> f;
+  for (double v : x)
+    if (std::isfinite(v)) f.push_back(v);
+  auto median = [](std::vector<double> a) {
+    std::sort(a.begin(), a.end());
+    const std::size_t n = a.size();
+    return n % 2 ? a[n / 2] : 0.5 * (a[n / 2 - 1] + a[n / 2]);
+  };
+  const double m = median(f);
+  for (double& v : f) v = std::abs(v - m);
+  return {m, median(f)};
+}
+
+TEST(GatherBracket, CountsAndGathersAsAPlainLoopInItsOrder) {
+  // Four values a step on AVX2 machines, the rest one by one: every length
+  // modulo 4, values and deviations, NaN and infinities among them.
+  std::mt19937 rng(2);
+  std::normal_distribution<double> normal(0.0, 1.0);
+  const double inf = std::numeric_limits<double>::infinity();
+  for (const std::size_t n : {std::size_t{0}, std::size_t{3}, std::size_t{4}, std::size_t{1001}, std::size_t{1002},
+                              std::size_t{1003}}) {
+    std::vector<double> x(n);
+    for (std::size_t i = 0; i < n; ++i) x[i] = i % 9 == 0 ? std::nan("") : i % 23 == 0 ? -inf : normal(rng);
+    for (const bool deviations : {false, true}) {
+      const double centre = 0.3, lo = deviations ? 0.2 : -0.5, hi = deviations ? 0.9 : 0.25;
+      std::vector<double> band(n + 4);
+      const BracketCount c = gather_bracket(x, deviations ? &centre : nullptr, lo, hi, band.data());
+      BracketCount want;
+      std::vector<double> kept;
+      for (const double xi : x) {
+        const double v = deviations ? std::abs(xi - centre) : xi;
+        if (!std::isfinite(v)) continue;
+        ++want.finite;
+        if (v < lo) ++want.below;
+        if (v >= lo && v <= hi) kept.push_back(v);
+      }
+      EXPECT_EQ(c.finite, want.finite) << n;
+      EXPECT_EQ(c.below, want.below) << n;
+      ASSERT_EQ(c.between, kept.size()) << n;
+      EXPECT_EQ(std::vector<double>(band.begin(), band.begin() + static_cast<std::ptrdiff_t>(c.between)), kept) << n;
+    }
+  }
+}
+
+TEST(MedianAndMad, AreASortsExactlyWhateverTheShapeAndTheGaps) {
+  // Small sets order every value; from 4096 a sample brackets the middle.
+  // Every shape, odd and even counts, NaN and infinities among the values
+  // (left out), must give the full sort's answer to the bit; x is not touched.
+  std::mt19937 rng(5);
+  std::normal_distribution<double> normal(0.0, 1.0);
+  std::uniform_int_distribution<int> few(0, 3);
+  const double inf = std::numeric_limits<double>::infinity(), nan = std::nan("");
+  for (const std::size_t n : {std::size_t{1}, std::size_t{2}, std::size_t{7}, std::size_t{4095}, std::size_t{19200},
+                              std::size_t{19201}}) {
+    std::vector<std::vector<double>> shapes(6, std::vector<double>(n));
+    for (std::size_t i = 0; i < n; ++i) {
+      shapes[0][i] = normal(rng);
+      shapes[1][i] = few(rng);
+      shapes[2][i] = static_cast<double>(i);
+      shapes[3][i] = i % 7 == 0 ? 1e3 * normal(rng) : 1e-3 * normal(rng);  // cores amid noise
+      shapes[4][i] = i % 3 == 0 ? nan : i % 11 == 0 ? -inf : i % 13 == 0 ? inf : normal(rng);  // a masked field
+      shapes[5][i] = i < n / 2 ? nan : normal(rng);                          // half the field masked in one block
+    }
+    for (std::size_t s = 0; s < shapes.size(); ++s) {
+      const std::vector<double> before = shapes[s];
+      const MedianSpread got = median_and_mad(shapes[s]);
+      const std::size_t finite = static_cast<std::size_t>(
+          std::count_if(before.begin(), before.end(), [](double v) { return std::isfinite(v); }));
+      EXPECT_EQ(got.n, finite) << "shape " << s << " n " << n;
+      if (!finite) {
+        EXPECT_TRUE(std::isnan(got.median) && std::isnan(got.mad));
+        continue;
+      }
+      const auto [m, mad] = sorted_median_and_mad(before);
+      EXPECT_EQ(got.median, m) << "shape " << s << " n " << n;
+      EXPECT_EQ(got.mad, mad) << "shape " << s << " n " << n;
+      for (std::size_t i = 0; i < n; ++i)
+        ASSERT_TRUE(shapes[s][i] == before[i] || (std::isnan(shapes[s][i]) && std::isnan(before[i])));
+    }
+  }
+  const std::vector<double> none = {nan, inf, -inf};
+  EXPECT_EQ(median_and_mad(none).n, 0u);
+  EXPECT_TRUE(std::isnan(median_and_mad(std::vector<double>{}).median));
+}
+
+// Reference: numpy.nanmedian of the values and of their absolute deviations,
+// through Debian's /usr/bin/python3.
+TEST(MedianAndMad, AgreeWithNumpy) {
+  ScratchDir dir;
+  const auto script = dir.write("mad.py",
+                                "import sys, numpy as np\n"
+                                "x = np.loadtxt(sys.argv[1])\n"
+                                "x = x[np.isfinite(x)]\n"
+                                "m = np.median(x)\n"
+                                "print(repr(float(m)), repr(float(np.median(np.abs(x - m)))))\n");
+  std::mt19937 rng(8);
+  std::lognormal_distribution<double> skewed(0.0, 1.0);
+  std::vector<double> x(20000);
+  for (std::size_t i = 0; i < x.size(); ++i) x[i] = i % 17 == 0 ? std::nan("") : skewed(rng);
+  {
+    std::ofstream out(dir / "x.txt");
+    out.precision(17);
+    for (double v : x) out << v << "\n";
+  }
+  const auto r = stallscope::testing::run_python(script, (dir / "x.txt").string());
+  ASSERT_EQ(r.exit_code, 0) << r.err;
+  std::istringstream in(r.out);
+  double m = 0, mad = 0;
+  in >> m >> mad;
+  const MedianSpread got = median_and_mad(x);
+  EXPECT_EQ(got.median, m);
+  EXPECT_EQ(got.mad, mad);
 }
 
 TEST(Percentile, InterpolatesBetweenOrderStatisticsLikeNumpy) {

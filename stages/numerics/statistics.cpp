@@ -1,5 +1,6 @@
 #include "stages/numerics/statistics.hpp"
 
+#include "pipeline/allocator.hpp"
 #include "stages/numerics/bracket_gather.hpp"
 
 #include <unsupported/Eigen/SpecialFunctions>
@@ -105,7 +106,7 @@ void select_kth(double* a, std::size_t n, std::size_t k) {
 // from *centre), counted n, averaged: over a large x, the values between two
 // sampled values that bracket the middle are gathered in one read and only
 // they are ordered.
-double middle_of(std::span<const double> x, const double* centre, std::vector<double>& band,
+double middle_of(std::span<const double> x, const double* centre, std::vector<double, UnsetOnResize<double>>& band,
                  std::size_t* count = nullptr) {
   auto middle = [](std::span<double> a, std::size_t below, std::size_t n) {
     const std::size_t k = (n - 1) / 2;  // the lower middle; n even: with the next
@@ -144,7 +145,7 @@ double middle_of(std::span<const double> x, const double* centre, std::vector<do
 }  // namespace
 
 MedianSpread median_and_mad(std::span<const double> x) {
-  std::vector<double> band;
+  std::vector<double, UnsetOnResize<double>> band;  // every value read is written first
   MedianSpread out{0, 0, 0};
   out.median = middle_of(x, nullptr, band, &out.n);
   if (!out.n) return {std::numeric_limits<double>::quiet_NaN(), std::numeric_limits<double>::quiet_NaN(), 0};

@@ -17,13 +17,17 @@ double noise_swirl(const SwirlField& field) {
   return s.n ? 0.5 * 1.4826 * s.mad : 0.0;
 }
 
-int label_regions(const std::vector<std::uint8_t>& mask, std::size_t ny, std::size_t nx, std::vector<int>& labels) {
+int label_regions(const std::vector<std::uint8_t>& mask, std::size_t ny, std::size_t nx, std::vector<int>& labels,
+                  std::size_t first_row, std::size_t last_row) {
   if (mask.size() != ny * nx) throw std::logic_error("mask does not match its grid");
   labels.assign(ny * nx, 0);
-  if (mask.empty()) return 0;
+  last_row = std::min(last_row, ny ? ny - 1 : 0);
+  if (mask.empty() || first_row > last_row) return 0;
+  const cv::Range rows(static_cast<int>(first_row), static_cast<int>(last_row) + 1);
   cv::Mat in(static_cast<int>(ny), static_cast<int>(nx), CV_8U, const_cast<std::uint8_t*>(mask.data()));
   cv::Mat out(static_cast<int>(ny), static_cast<int>(nx), CV_32S, labels.data());
-  return cv::connectedComponents(in, out, 8, CV_32S) - 1;  // without stats: the caller needs only the labels
+  cv::Mat out_rows = out.rowRange(rows);  // labelled in place
+  return cv::connectedComponents(in.rowRange(rows), out_rows, 8, CV_32S) - 1;  // without stats: only the labels
 }
 
 void label_regions_in_caller_threads() { cv::setNumThreads(1); }
@@ -117,18 +121,41 @@ std::vector<Detection> detect_vortices(const Grid& grid, const SwirlField& field
   std::vector<std::uint8_t> in(n, 0);  // cells of the region grown; cleared after each
   for (int sign : {+1, -1}) {
     const std::vector<std::uint8_t>& mask = sign > 0 ? positive : negative;
+    // Only the rows that hold this sign's strong cells need labelling.
+    std::size_t first_row = ny, last_row = 0;
+    for (std::size_t k = 0; k < strong_count; ++k)
+      if (mask[strong[k]]) first_row = std::min(first_row, strong[k] / nx), last_row = strong[k] / nx;
     std::vector<int> labels;
-    const int count = label_regions(mask, ny, nx, labels);
+    const int count = label_regions(mask, ny, nx, labels, first_row, last_row);
     if (count == 0) continue;
     // Cells and bounding boxes of each region, then join regions that lie
     // within the clustering gap of each other.
     std::vector<std::vector<std::size_t>> cells(static_cast<std::size_t>(count) + 1);
+    struct Box {
+      long j0 = std::numeric_limits<long>::max(), j1 = -1, i0 = std::numeric_limits<long>::max(), i1 = -1;
+    };
+    std::vector<Box> boxes(static_cast<std::size_t>(count) + 1);
     for (std::size_t k = 0; k < strong_count; ++k) {
       const std::size_t p = strong[k];
-      if (const int a = labels[p]) cells[static_cast<std::size_t>(a)].push_back(p);
+      if (const int a = labels[p]) {
+        cells[static_cast<std::size_t>(a)].push_back(p);
+        Box& b = boxes[static_cast<std::size_t>(a)];
+        const long j = static_cast<long>(p / nx), i = static_cast<long>(p % nx);
+        b.j0 = std::min(b.j0, j), b.j1 = std::max(b.j1, j), b.i0 = std::min(b.i0, i), b.i1 = std::max(b.i1, i);
+      }
     }
     UnionFind uf(count + 1);
     const long reach = o.cluster_gap_cells + 1;  // Chebyshev distance between cells that merge
+    // A region with no later one whose box comes within reach of its own has
+    // nothing to look for.
+    auto has_neighbour = [&](int a) {
+      const Box& x = boxes[static_cast<std::size_t>(a)];
+      for (int b = a + 1; b <= count; ++b) {
+        const Box& y = boxes[static_cast<std::size_t>(b)];
+        if (y.j0 <= x.j1 + reach && x.j0 <= y.j1 + reach && y.i0 <= x.i1 + reach && x.i0 <= y.i1 + reach) return true;
+      }
+      return false;
+    };
     // Only a region's edge needs looking from: from a cell whose 8 neighbours
     // are all its own, a step toward any cell in reach is a cell of the region
     // nearer to it, and so on until an edge cell, still in reach.
@@ -140,7 +167,7 @@ std::vector<Detection> detect_vortices(const Grid& grid, const SwirlField& field
       return true;
     };
     for (int a = 1; a <= count; ++a)
-      for (const std::size_t p : cells[static_cast<std::size_t>(a)]) {
+      for (const std::size_t p : has_neighbour(a) ? cells[static_cast<std::size_t>(a)] : std::vector<std::size_t>{}) {
         if (interior(p, a)) continue;
         const long pj = static_cast<long>(p / nx), pi = static_cast<long>(p % nx);
         for (long dj = -reach; dj <= reach; ++dj)

@@ -40,8 +40,11 @@ struct Detection {
 // has (omega / 2). 0 when no gradient is finite.
 double noise_swirl(const SwirlField& field);
 
-// 8-connected labels (1..count, 0 background) of a ny x nx mask, by OpenCV.
-int label_regions(const std::vector<std::uint8_t>& mask, std::size_t ny, std::size_t nx, std::vector<int>& labels);
+// 8-connected labels (1..count, 0 background) of a ny x nx mask, by OpenCV;
+// only rows first_row to last_row are looked at (the caller knows the others
+// hold no cell).
+int label_regions(const std::vector<std::uint8_t>& mask, std::size_t ny, std::size_t nx, std::vector<int>& labels,
+                  std::size_t first_row = 0, std::size_t last_row = static_cast<std::size_t>(-1));
 // Frames (and runs) are reduced in parallel already: OpenCV's own thread pool
 // inside each labelling only oversubscribes the cores. Call once, at start.
 void label_regions_in_caller_threads();

@@ -87,9 +87,9 @@ double swirl_strength(double ux, double uy, double vx, double vy) {
 
 SwirlField swirl_field(const Grid& grid, const Frame& f, GradientScheme scheme) {
   const std::size_t nx = grid.nx(), ny = grid.ny(), n = grid.size();
-  SwirlField out;
-  out.vorticity.assign(n, kNaN);
-  out.swirl.assign(n, kNaN);
+  SwirlField out;  // every point is written once below: NaN where it has no gradient
+  out.vorticity.resize(n);
+  out.swirl.resize(n);
   auto valid = [&](std::size_t p) { return f.valid[p] != 0; };
   const AxisWeights wx(grid.x_m), wy(grid.y_m);
   // Rows with no invalid point.
@@ -104,6 +104,7 @@ SwirlField swirl_field(const Grid& grid, const Frame& f, GradientScheme scheme) 
     if (whole) central_row(wx, wy, f, j, nx, out);
     for (std::size_t i = 0; i < nx; i += whole && i == 0 ? nx - 1 : 1) {
       const std::size_t p = j * nx + i;
+      out.vorticity[p] = out.swirl[p] = kNaN;
       if (!valid(p)) continue;
       double ux = kNaN, uy = kNaN, vx = kNaN, vy = kNaN;
       if (scheme == GradientScheme::kCentral) {

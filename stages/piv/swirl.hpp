@@ -7,6 +7,7 @@
 #include <cstdint>
 #include <vector>
 
+#include "pipeline/allocator.hpp"
 #include "stages/piv/frame_source.hpp"
 
 namespace stallscope::piv {
@@ -17,8 +18,10 @@ enum class GradientScheme {
 };
 
 struct SwirlField {
-  std::vector<double> vorticity;  // 1/s, NaN where no gradient
-  std::vector<double> swirl;      // lambda_ci >= 0, 1/s, NaN where no gradient
+  // swirl_field writes every point once, so its arrays skip the zeroing.
+  using Values = std::vector<double, UnsetOnResize<double>>;
+  Values vorticity;  // 1/s, NaN where no gradient
+  Values swirl;      // lambda_ci >= 0, 1/s, NaN where no gradient
 };
 
 // lambda_ci of A = [[ux, uy], [vx, vy]]: sqrt(det A - (tr A / 2)^2) where positive, else 0.

@@ -68,6 +68,16 @@ TEST(LabelRegions, AgreesWithScipyNdimageLabelUpToRenumbering) {
     EXPECT_EQ(b->second, ours);
   }
   EXPECT_EQ(static_cast<int>(ours_to_theirs.size()), count);
+
+  // Labelling only the rows that hold cells gives the same labels, numbers
+  // included (detections come out in their order).
+  std::vector<std::uint8_t> band(ny * nx, 0);
+  std::copy(mask.begin() + 10 * nx, mask.begin() + 25 * nx, band.begin() + 10 * nx);
+  std::vector<int> whole, rows;
+  const int all = label_regions(band, ny, nx, whole);
+  EXPECT_EQ(label_regions(band, ny, nx, rows, 10, 24), all);
+  EXPECT_EQ(rows, whole);
+  EXPECT_EQ(label_regions(band, ny, nx, rows, 30, 20), 0);  // no rows at all
 }
 
 // A hand-made swirl field: blobs of cells with a sign.

@@ -134,7 +134,9 @@ int run_campaign(const CampaignRequest& request, std::ostream& out) {
       for (std::size_t i = 0; i < manifest.runs.size(); ++i)
         if (outcomes[i].state != RunOutcome::State::kFailed) archives.push_back(run_archive(settings, manifest.runs[i]));
       std::ostringstream fit_lines;  // per-run lines repeat the runs' own summaries: only the files are listed
-      for (auto& f : fit::fit_campaign(archives, request.output_directory / "fit", plan.threads_per_run, fit_lines))
+      // The runs are done (every rank's): the shared fit has the cores this process may use.
+      const int threads = available_cores();
+      for (auto& f : fit::fit_campaign(archives, request.output_directory / "fit", threads, fit_lines))
         files.push_back(f);
       if (request.draw_report) files.push_back(draw_campaign_page(summary, manifest, settings, files));
       const double seconds = std::chrono::duration<double>(Clock::now() - started).count();

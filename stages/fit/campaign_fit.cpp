@@ -5,6 +5,7 @@
 #include <algorithm>
 #include <optional>
 #include <random>
+#include <thread>
 
 #include "stages/fit/least_squares.hpp"
 #include "stages/numerics/statistics.hpp"
@@ -47,7 +48,7 @@ LoopFit shared_least_squares(const std::vector<const Member*>& members, const Fi
 
 }  // namespace
 
-SharedFit fit_shared(const std::deque<CampaignRun>& runs, const FitSettings& settings) {
+SharedFit fit_shared(const std::deque<CampaignRun>& runs, const FitSettings& settings, int threads) {
   SharedFit out;
   std::vector<Member> members;
   std::string left_out;
@@ -78,12 +79,23 @@ SharedFit fit_shared(const std::deque<CampaignRun>& runs, const FitSettings& set
     out.bootstrap.note = fmt::format("{} run(s): a bootstrap over runs needs at least 3", n);
     return out;
   }
+  // Every draw is made from the one seeded stream before any fit, so the
+  // result does not depend on the threads.
   std::mt19937_64 random(settings.bootstrap_seed);
   std::uniform_int_distribution<Eigen::Index> pick(0, n - 1);
-  for (std::int64_t k = 0; k < settings.bootstrap_resamples; ++k) {
-    std::vector<const Member*> draw;
+  std::vector<std::vector<const Member*>> draws(static_cast<std::size_t>(settings.bootstrap_resamples));
+  for (auto& draw : draws)
     for (Eigen::Index j = 0; j < n; ++j) draw.push_back(&members[static_cast<std::size_t>(pick(random))]);
-    const LoopFit f = shared_least_squares(draw, settings.fit, &out.fit);
+  std::vector<LoopFit> fits(draws.size());
+  const auto work = [&](std::size_t first, std::size_t stride) {
+    for (std::size_t k = first; k < draws.size(); k += stride) fits[k] = shared_least_squares(draws[k], settings.fit, &out.fit);
+  };
+  const auto workers = static_cast<std::size_t>(std::clamp<std::int64_t>(threads, 1, settings.bootstrap_resamples));
+  std::vector<std::thread> pool;
+  for (std::size_t w = 1; w < workers; ++w) pool.emplace_back(work, w, workers);
+  work(0, workers);
+  for (auto& t : pool) t.join();
+  for (const LoopFit& f : fits) {
     if (f.fitted) {
       out.bootstrap.tau1.push_back(f.tau1);
       out.bootstrap.tau2.push_back(f.tau2);

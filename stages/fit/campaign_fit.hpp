@@ -28,8 +28,9 @@ struct SharedFit {
   std::int64_t runs = 0;
 };
 
-// Runs whose own fit failed are left out (and named in the reason).
-SharedFit fit_shared(const std::deque<CampaignRun>& runs, const FitSettings& settings);
+// Runs whose own fit failed are left out (and named in the reason). The
+// bootstrap's resamples are fitted on `threads` threads, with the same result.
+SharedFit fit_shared(const std::deque<CampaignRun>& runs, const FitSettings& settings, int threads = 1);
 
 struct Trend {
   std::string constant, regressor;

@@ -116,7 +116,7 @@ int refit_archives(const RefitRequest& request, std::ostream& out) {
     runs.push_back({std::move(loops), std::move(curve), std::move(fit)});
   }
   if (runs.size() > 1) {
-    const SharedFit shared = fit_shared(runs, settings);
+    const SharedFit shared = fit_shared(runs, settings, request.threads);
     const auto trends = constant_trends(runs);
     write_csv_file(request.output_directory / "campaign_fit.csv", campaign_table(runs, shared));
     write_csv_file(request.output_directory / "campaign_trend.csv", trend_table(trends));

@@ -150,13 +150,17 @@ TEST(FitOnSynthRun, RecoversTheGeneratorsConstantsWithinItsWindow) {
   for (const auto& f : files) EXPECT_TRUE(std::filesystem::exists(f)) << f;
   EXPECT_TRUE(fit::fit_campaign({dir / "out" / "fit-synth.h5"}, dir / "one", 1, lines).empty());
   // It takes each run's fit as the reduction stored it: a new fit with the
-  // archive's own options (below) gives the same files, to the byte.
-  r = run_stallscope("fit " + archive + " " + archive + " -o " + shell_quote((dir / "refit_own").string()));
+  // archive's own options gives the same files, to the byte; so do two
+  // threads for the bootstrap over (three) runs.
+  const auto out = dir / "out" / "fit-synth.h5";
+  fit::fit_campaign({out, out, out}, dir / "three", 2, lines);
+  r = run_stallscope("fit " + archive + " " + archive + " " + archive + " -o " + shell_quote((dir / "refit_own").string()));
   ASSERT_EQ(r.exit_code, 0) << r.err;
   for (const char* file : {"campaign_fit.csv", "campaign_trend.csv", "fit-synth/fit_summary.csv", "fit-synth/fit_loop.csv"})
-    EXPECT_EQ(stallscope::testing::read_text(dir / "campaign_fit" / file),
+    EXPECT_EQ(stallscope::testing::read_text(dir / "three" / file),
               stallscope::testing::read_text(dir / "refit_own" / file))
         << file;
+  EXPECT_NE(stallscope::testing::read_text(dir / "three" / "campaign_fit.csv").find("shared,fitted"), std::string::npos);
 
   // Without --config the archive's own [fit] options (its provenance) are used.
   r = run_stallscope("fit " + archive + " -o " + shell_quote((dir / "refit_default").string()) + " --bootstrap 0");

@@ -70,6 +70,25 @@ void mark_strong(const double* vorticity, const double* swirl, std::size_t n, do
   }
 }
 
+// The cells marked in either mask, in order.
+std::vector<std::size_t> marked_cells(const std::vector<std::uint8_t>& a, const std::vector<std::uint8_t>& b) {
+  std::vector<std::size_t> out;
+  const std::size_t n = a.size();
+  for (std::size_t p = 0; p < n; ++p) {
+    if (p + 8 <= n) {  // most of a field is below the threshold: eight cells a look
+      std::uint64_t wa, wb;
+      std::memcpy(&wa, a.data() + p, 8);
+      std::memcpy(&wb, b.data() + p, 8);
+      if ((wa | wb) == 0) {
+        p += 7;
+        continue;
+      }
+    }
+    if (a[p] | b[p]) out.push_back(p);
+  }
+  return out;
+}
+
 struct UnionFind {
   std::vector<int> parent;
   explicit UnionFind(int n) : parent(static_cast<std::size_t>(n)) { std::iota(parent.begin(), parent.end(), 0); }
@@ -98,24 +117,11 @@ std::vector<Detection> detect_vortices(const Grid& grid, const SwirlField& field
     const double w = field.vorticity[p], s = field.swirl[p];
     return std::isfinite(s) && s > level && (sign > 0 ? w > 0 : w < 0);
   };
-  // Both signs' masks in one branch-free pass (NaN compares false, an infinite
-  // swirl is no measurement), and the cells above the threshold: the few a
-  // region can hold.
+  // Both signs' masks in one pass, and the cells above the threshold: the few
+  // a region can hold.
   std::vector<std::uint8_t> positive(n), negative(n);
   mark_strong(field.vorticity.data(), field.swirl.data(), n, threshold, positive.data(), negative.data());
-  std::vector<std::size_t> strong;
-  for (std::size_t p = 0; p < n; ++p) {
-    if (p + 8 <= n) {  // most of a field is below the threshold: eight cells a look
-      std::uint64_t a, b;
-      std::memcpy(&a, positive.data() + p, 8);
-      std::memcpy(&b, negative.data() + p, 8);
-      if ((a | b) == 0) {
-        p += 7;
-        continue;
-      }
-    }
-    if (positive[p] | negative[p]) strong.push_back(p);
-  }
+  const std::vector<std::size_t> strong = marked_cells(positive, negative);
   const std::size_t strong_count = strong.size();
   std::vector<Detection> out;
   std::vector<std::uint8_t> in(n, 0);  // cells of the region grown; cleared after each

@@ -228,8 +228,9 @@ TEST(MedianAndMad, AreASortsExactlyWhateverTheShapeAndTheGaps) {
   const double inf = std::numeric_limits<double>::infinity(), nan = std::nan("");
   for (const std::size_t n : {std::size_t{1}, std::size_t{2}, std::size_t{7}, std::size_t{4095}, std::size_t{19200},
                               std::size_t{19201}}) {
-    std::vector<std::vector<double>> shapes(6, std::vector<double>(n));
+    std::vector<std::vector<double>> shapes(7, std::vector<double>(n));
     for (std::size_t i = 0; i < n; ++i) {
+      shapes[6][i] = normal(rng);
       shapes[0][i] = normal(rng);
       shapes[1][i] = few(rng);
       shapes[2][i] = static_cast<double>(i);
@@ -237,6 +238,9 @@ TEST(MedianAndMad, AreASortsExactlyWhateverTheShapeAndTheGaps) {
       shapes[4][i] = i % 3 == 0 ? nan : i % 11 == 0 ? -inf : i % 13 == 0 ? inf : normal(rng);  // a masked field
       shapes[5][i] = i < n / 2 ? nan : normal(rng);                          // half the field masked in one block
     }
+    // Large values just where the sample of 512 evenly spaced values looks
+    // (white box): its bracket misses the middle, and every value is ordered.
+    for (std::size_t j = 0; j < 512 && n >= 4096; ++j) shapes[6][j * n / 512] = 1e9;
     for (std::size_t s = 0; s < shapes.size(); ++s) {
       const std::vector<double> before = shapes[s];
       const MedianSpread got = median_and_mad(shapes[s]);

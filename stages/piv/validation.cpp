@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <array>
 #include <cmath>
+#include <limits>
 #include <stdexcept>
 
 #include "stages/numerics/statistics.hpp"
@@ -12,11 +13,15 @@ namespace stallscope::piv {
 
 namespace {
 
-// The median of 8 values by Batcher's odd-even merge network (19 compare-
-// exchanges, Knuth, TAOCP vol. 3, 5.3.4): branch-free, where a selection's
-// comparisons on noisy data would mispredict half the time. The same middle
-// two values as any ordering, so the same median to the bit.
-double median_of_eight(std::array<double, 8> a) {
+// The median of at most 8 values (a grid point's neighbours) by Batcher's
+// odd-even merge network, the free places padded with +inf (19 compare-
+// exchanges; Knuth, TAOCP vol. 3, 5.3.4): branch-free, where a selection's
+// comparisons on noisy data mispredict half the time. It orders the values as
+// sorting does, so the median is the same to the bit.
+double median_of_few(std::span<const double> values) {
+  std::array<double, 8> a;
+  a.fill(std::numeric_limits<double>::infinity());
+  std::copy(values.begin(), values.end(), a.begin());
   auto order = [&a](int i, int j) {
     const double lo = std::min(a[i], a[j]), hi = std::max(a[i], a[j]);
     a[i] = lo, a[j] = hi;
@@ -26,19 +31,16 @@ double median_of_eight(std::array<double, 8> a) {
   order(1, 2), order(5, 6);
   order(0, 4), order(1, 5), order(2, 6), order(3, 7);
   order(2, 4), order(3, 5);
-  order(3, 4);  // only the middle two are needed: (1, 2) and (5, 6) would finish the sort
-  return 0.5 * (a[3] + a[4]);
+  order(1, 2), order(3, 4), order(5, 6);
+  const std::size_t n = values.size();
+  return n % 2 ? a[n / 2] : 0.5 * (a[n / 2 - 1] + a[n / 2]);
 }
 
 }  // namespace
 
 double median_in_place(std::span<double> values) {
   if (values.empty()) throw std::logic_error("median of no values");
-  if (values.size() == 8) {
-    std::array<double, 8> a;
-    std::copy(values.begin(), values.end(), a.begin());
-    return median_of_eight(a);
-  }
+  if (values.size() <= 8) return median_of_few(values);
   const std::size_t n = values.size(), mid = n / 2;
   if (n % 2) return numerics::order_pair(values, mid).first;
   const auto [lower, upper] = numerics::order_pair(values, mid - 1);

@@ -207,6 +207,17 @@ class Selection {
 void read_group(hid_t file, const std::string& file_name, const std::string& group, RunStore& store, int depth,
                 const Selection& selection);
 
+// What a dataset's or table's writer said of it beyond its units and columns
+// (its CSV name, its notes).
+Attributes extra_attributes(hid_t file, const std::string& path) {
+  Attributes extra;
+  for (const auto& a : h5::attribute_names(file, path)) {
+    if (a == "units" || a == "columns") continue;
+    if (auto v = h5::read_attribute(file, path, a)) extra[a] = *v;
+  }
+  return extra;
+}
+
 // The units attribute of a dataset, "" when absent or not text.
 std::string units_of(hid_t file, const std::string& path) {
   auto units = h5::read_attribute(file, path, "units");
@@ -231,12 +242,7 @@ void read_table(hid_t file, const std::string& file_name, const std::string& pat
     else if (di.type_class == H5T_INTEGER) t.add({name, u, h5::read_integers(file, cpath, file_name)});
     else t.add({name, u, h5::read_numbers(file, cpath, file_name)});
   }
-  Attributes extra;  // what the table's writer said of it (its CSV name, its notes)
-  for (const auto& a : h5::attribute_names(file, path)) {
-    if (a == "columns") continue;
-    if (auto v = h5::read_attribute(file, path, a)) extra[a] = *v;
-  }
-  store.put(path, std::move(t), std::move(extra));
+  store.put(path, std::move(t), extra_attributes(file, path));
 }
 
 void read_dataset(hid_t file, const std::string& file_name, const std::string& path, RunStore& store) {
@@ -262,12 +268,7 @@ void read_dataset(hid_t file, const std::string& file_name, const std::string& p
     FieldStack f{di.dims[0], di.dims[1], di.dims[2], h5::read_floats(file, path, file_name), units};
     store.put(path, std::move(f));
   }
-  Attributes extra;
-  for (const auto& a : h5::attribute_names(file, path)) {
-    if (a == "units" || a == "columns") continue;
-    if (auto v = h5::read_attribute(file, path, a)) extra[a] = *v;
-  }
-  if (store.contains(path)) store.attributes(path) = std::move(extra);
+  if (store.contains(path)) store.attributes(path) = extra_attributes(file, path);
 }
 
 // Deeper than any layout we write; a deeper file is damaged or holds a link cycle.

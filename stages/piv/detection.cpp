@@ -7,6 +7,7 @@
 #include <numeric>
 #include <opencv2/imgproc.hpp>
 
+#include "stages/numerics/cpu_clones.hpp"
 #include "stages/numerics/statistics.hpp"
 
 namespace stallscope::piv {
@@ -54,12 +55,8 @@ std::vector<double> cell_areas(const Grid& g) {
 namespace {
 
 // Cells whose swirl is above the threshold, by the sign of their vorticity
-// (NaN compares false; an infinite swirl is no measurement). Built for AVX2
-// too, the one to run chosen at load time.
-#if defined(__x86_64__) && defined(__GNUC__) && !defined(__SANITIZE_ADDRESS__) && \
-    !(defined(__has_feature) && __has_feature(address_sanitizer))
-__attribute__((target_clones("avx2", "default")))
-#endif
+// (NaN compares false; an infinite swirl is no measurement). Built for AVX2 too.
+STALLSCOPE_AVX2_CLONES
 void mark_strong(const double* vorticity, const double* swirl, std::size_t n, double threshold,
                  std::uint8_t* positive, std::uint8_t* negative) {
   constexpr double kLargest = std::numeric_limits<double>::max();

@@ -8,6 +8,8 @@
 #include <limits>
 #include <numbers>
 
+#include "stages/numerics/cpu_clones.hpp"
+
 namespace stallscope::piv {
 
 namespace {
@@ -45,13 +47,8 @@ struct AxisWeights {
 // Points 1 to nx - 2 of row j, every neighbour valid: the same sums as
 // AxisWeights::derivative and swirl_strength, in the same order, so the
 // result is the point-by-point one to the bit (a zero vorticity may lose its sign).
-// Built twice, for AVX2 and for any x86-64, the one to run chosen at load
-// time: twice the doubles a step on most machines. Without FMA contraction (ISO
-// C++ mode) both give the same bits.
-#if defined(__x86_64__) && defined(__GNUC__) && !defined(__SANITIZE_ADDRESS__) && \
-    !(defined(__has_feature) && __has_feature(address_sanitizer))
-__attribute__((target_clones("avx2", "default")))
-#endif
+// Built for AVX2 too: twice the doubles a step on most machines.
+STALLSCOPE_AVX2_CLONES
 void central_row(const AxisWeights& wx, const AxisWeights& wy, const Frame& f, std::size_t j, std::size_t nx,
                  SwirlField& out) {
   const float *u = f.u.data() + j * nx, *v = f.v.data() + j * nx;
